@@ -1,0 +1,29 @@
+# The two set-up commands a new machine needs: `make run` and `make test`.
+# Both build .venv from nothing with the pinned dependencies in pyproject.toml.
+PYTHON ?= python3
+VENV := .venv
+BIN := $(VENV)/bin
+STAMP := $(VENV)/.installed
+
+.PHONY: run test lint bench clean
+
+$(STAMP): pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+	$(BIN)/python -m pip install --quiet -e '.[test]'
+	touch $(STAMP)
+
+lint: $(STAMP)
+	$(BIN)/ruff check service plugins tests
+	$(BIN)/ruff format --check service plugins tests
+
+# pytest exits 5 when it collected nothing: that is a failure here, never a pass.
+test: lint
+	$(BIN)/python -m pytest -q -p no:cacheprovider; rc=$$?; \
+	if [ $$rc -eq 5 ]; then echo "no tests collected: failing"; exit 1; fi; exit $$rc
+
+bench: $(STAMP)
+	$(BIN)/python tests/perf/bench_propagation.py
+
+clean:
+	rm -rf $(VENV) build *.egg-info
