@@ -1,0 +1,123 @@
+"""The rocket equation: propellant, delta-v, mass flow and burn time of a constant-thrust engine.
+
+Tsiolkovsky (1903): delta_v = Isp g0 ln(m0 / m1). Sutton & Biblarz, Rocket Propulsion
+Elements, 9th ed. (2017), eq. 4-6; Curtis, Orbital Mechanics for Engineering Students,
+3rd ed. (2014), eq. 11.30 (equation numbers from memory). g0 is the standard acceleration
+of gravity (``G0_M_S2``, 9.80665 m/s^2 exactly).
+
+All functions are vectorised: scalar or array arguments broadcast, and scalar inputs give
+numpy float64 scalars. Masses in kg, delta-v in m/s, Isp in s, thrust in N.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+from numpy.typing import ArrayLike
+
+from service.dynamics.bodies import G0_M_S2
+
+
+def _finite(name: str, value: ArrayLike) -> np.ndarray:
+    arr = np.asarray(value, dtype=float)
+    if not np.all(np.isfinite(arr)):
+        raise ValueError(f"{name} must be finite, got {value!r}")
+    return arr
+
+
+def _positive(name: str, value: ArrayLike) -> np.ndarray:
+    arr = _finite(name, value)
+    if np.any(arr <= 0.0):
+        raise ValueError(f"{name} must be positive, got {value!r}")
+    return arr
+
+
+def _non_negative(name: str, value: ArrayLike) -> np.ndarray:
+    arr = _finite(name, value)
+    if np.any(arr < 0.0):
+        raise ValueError(f"{name} must not be negative, got {value!r}")
+    return arr
+
+
+def _out(value: np.ndarray) -> np.ndarray | np.float64:
+    """0-d results as numpy float64 scalars, arrays unchanged."""
+    return value[()] if isinstance(value, np.ndarray) and value.ndim == 0 else value
+
+
+def exhaust_velocity_m_s(isp_s: ArrayLike) -> np.ndarray | np.float64:
+    """Effective exhaust velocity c = Isp g0.
+
+    Source: Sutton & Biblarz, Rocket Propulsion Elements, 9th ed. (2017), chapter 2
+    (c = Isp g0; from memory). Parameter: ``isp_s`` specific impulse, s (> 0). Returns m/s.
+    """
+    return _out(_positive("isp_s", isp_s) * G0_M_S2)
+
+
+def propellant_for_delta_v_kg(
+    mass_before_kg: ArrayLike, delta_v_m_s: ArrayLike, isp_s: ArrayLike
+) -> np.ndarray | np.float64:
+    """Propellant a burn of ``delta_v_m_s`` consumes: m0 (1 - exp(-dv / (Isp g0))).
+
+    Source: Tsiolkovsky rocket equation; Curtis, 3rd ed., eq. 11.30; Sutton & Biblarz,
+    9th ed., eq. 4-6. Written as -m0 expm1(-dv/c) so small delta-v keeps full precision.
+
+    Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` velocity
+    change, m/s (>= 0); ``isp_s`` specific impulse, s (> 0). Returns kg.
+    """
+    m0 = _positive("mass_before_kg", mass_before_kg)
+    dv = _non_negative("delta_v_m_s", delta_v_m_s)
+    c = _positive("isp_s", isp_s) * G0_M_S2
+    return _out(-m0 * np.expm1(-dv / c))
+
+
+def delta_v_for_propellant_m_s(
+    mass_before_kg: ArrayLike, propellant_kg: ArrayLike, isp_s: ArrayLike
+) -> np.ndarray | np.float64:
+    """Delta-v from burning ``propellant_kg``: Isp g0 ln(m0 / (m0 - mp)).
+
+    Source: Tsiolkovsky rocket equation; Curtis, 3rd ed., eq. 11.30; Sutton & Biblarz,
+    9th ed., eq. 4-6. Written as -c log1p(-mp/m0) for precision with little propellant.
+
+    Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``propellant_kg`` propellant
+    burned, kg (0 <= mp < m0: burning the whole mass is refused); ``isp_s`` specific impulse,
+    s (> 0). Returns m/s.
+    """
+    m0 = _positive("mass_before_kg", mass_before_kg)
+    mp = _non_negative("propellant_kg", propellant_kg)
+    c = _positive("isp_s", isp_s) * G0_M_S2
+    if np.any(mp >= m0):
+        raise ValueError(
+            f"propellant ({propellant_kg!r} kg) must be less than the mass before the burn "
+            f"({mass_before_kg!r} kg)"
+        )
+    return _out(-c * np.log1p(-mp / m0))
+
+
+def mass_flow_kg_s(thrust_n: ArrayLike, isp_s: ArrayLike) -> np.ndarray | np.float64:
+    """Propellant mass flow of an engine: mdot = F / (Isp g0).
+
+    Source: Sutton & Biblarz, 9th ed., chapter 2 (F = mdot c, c = Isp g0; from memory).
+    Parameters: ``thrust_n`` thrust, N (> 0); ``isp_s`` specific impulse, s (> 0).
+    Returns kg/s.
+    """
+    thrust = _positive("thrust_n", thrust_n)
+    c = _positive("isp_s", isp_s) * G0_M_S2
+    return _out(thrust / c)
+
+
+def burn_duration_s(
+    mass_before_kg: ArrayLike, delta_v_m_s: ArrayLike, thrust_n: ArrayLike, isp_s: ArrayLike
+) -> np.ndarray | np.float64:
+    """Exact constant-thrust burn time for ``delta_v_m_s``: propellant / mass flow.
+
+    t = m0 c (1 - exp(-dv / c)) / F with c = Isp g0: the rocket equation's propellant
+    (Curtis, 3rd ed., eq. 11.30) burned at the constant rate F / c (Sutton & Biblarz, 9th ed.,
+    chapter 2). No small-delta-v approximation (t = m0 dv / F) is made.
+
+    Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` m/s (>= 0);
+    ``thrust_n`` N (> 0); ``isp_s`` s (> 0). Returns s.
+    """
+    m0 = _positive("mass_before_kg", mass_before_kg)
+    dv = _non_negative("delta_v_m_s", delta_v_m_s)
+    thrust = _positive("thrust_n", thrust_n)
+    c = _positive("isp_s", isp_s) * G0_M_S2
+    return _out(-m0 * np.expm1(-dv / c) * c / thrust)
