@@ -1,0 +1,293 @@
+"""What a maneuver plan really does: masses, burn times and every coast arc's orbit.
+
+The builder takes an initial state, a spacecraft mass and a list of burns in any
+order, orders them by ignition, and applies each as an impulse at its mid-point
+(ignition + duration / 2), the duration being the exact constant-thrust burn
+time from the rocket equation. Between impulses the spacecraft coasts on
+two-body orbits (optionally with secular J2 drift). Optionally each burn is
+also flown as a finite burn so that the impulsive model's error can be judged.
+
+The output is exactly what a report and the flight-rule checks need, computed
+once: checks read it and never propagate for themselves.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Literal
+
+import numpy as np
+
+from service.dynamics import rocket
+from service.dynamics.arcs import lowest_point
+from service.dynamics.bodies import Body
+from service.dynamics.elements import (
+    Elements,
+    apoapsis_radius_km,
+    periapsis_radius_km,
+    period_s,
+    specific_energy_km2_s2,
+    state_to_elements,
+)
+from service.dynamics.epochs import add_seconds, seconds_between
+from service.dynamics.finite_burn import FiniteBurnResult, simulate_finite_burn
+from service.dynamics.frames import local_to_inertial
+from service.dynamics.kepler import propagate
+from service.dynamics.secular import propagate_j2_secular
+
+CoastModel = Literal["two-body", "j2-secular"]
+
+
+@dataclass(frozen=True)
+class EngineSpec:
+    """An engine as the trajectory needs it: thrust in newtons, specific impulse in seconds."""
+
+    id: str
+    thrust_n: float
+    isp_s: float
+
+
+@dataclass(frozen=True)
+class BurnSpec:
+    """One planned burn: engine start epoch (UTC), engine, frame and delta-v components in m/s."""
+
+    id: str
+    ignition: np.datetime64
+    engine: EngineSpec
+    frame: str
+    delta_v_m_s: tuple[float, float, float]
+
+
+@dataclass(frozen=True)
+class BurnResult:
+    """A burn as flown by the model: masses, duration, epochs and the velocity change applied."""
+
+    id: str
+    engine_id: str
+    frame: str
+    delta_v_m_s: float
+    delta_v_inertial_m_s: np.ndarray
+    propellant_kg: float
+    duration_s: float
+    mass_before_kg: float
+    mass_after_kg: float
+    ignition: np.datetime64
+    centre: np.datetime64
+    cutoff: np.datetime64
+    r_centre_km: np.ndarray
+    v_before_km_s: np.ndarray
+    v_after_km_s: np.ndarray
+    finite_burn: FiniteBurnResult | None
+
+
+@dataclass(frozen=True)
+class Arc:
+    """One coast arc: from an impulse (or the plan epoch) to the next impulse (None: open-ended).
+
+    Elements are osculating at the arc's start. ``apoapsis_altitude_km`` and
+    ``period_s`` are None for unbound arcs. ``lowest_altitude_km`` is the
+    lowest altitude actually flown between ``start`` and ``end`` (for the
+    open-ended last arc: over the next periapsis passage, if any).
+    """
+
+    index: int
+    after_maneuver: str | None
+    start: np.datetime64
+    end: np.datetime64 | None
+    r_start_km: np.ndarray
+    v_start_km_s: np.ndarray
+    r_end_km: np.ndarray | None
+    v_end_km_s: np.ndarray | None
+    elements: Elements
+    bound: bool
+    specific_energy_km2_s2: float
+    periapsis_radius_km: float
+    periapsis_altitude_km: float
+    apoapsis_altitude_km: float | None
+    period_s: float | None
+    lowest_altitude_km: float
+    lowest_altitude_epoch: np.datetime64
+
+    @property
+    def semi_major_axis_km(self) -> float:
+        return float(self.elements.a_km)
+
+    @property
+    def eccentricity(self) -> float:
+        return float(self.elements.e)
+
+    @property
+    def inclination_rad(self) -> float:
+        return float(self.elements.i_rad)
+
+
+@dataclass(frozen=True)
+class Trajectory:
+    """The plan as flown by the model: burns in ignition order and the arcs between them."""
+
+    body: Body
+    epoch: np.datetime64
+    initial_mass_kg: float
+    coast_model: CoastModel
+    maneuvers: tuple[BurnResult, ...]
+    arcs: tuple[Arc, ...]
+
+    @property
+    def total_delta_v_m_s(self) -> float:
+        return float(sum(burn.delta_v_m_s for burn in self.maneuvers))
+
+    @property
+    def total_propellant_kg(self) -> float:
+        return float(sum(burn.propellant_kg for burn in self.maneuvers))
+
+    @property
+    def final_mass_kg(self) -> float:
+        return self.maneuvers[-1].mass_after_kg if self.maneuvers else self.initial_mass_kg
+
+
+def _coast(r_km, v_km_s, dt_s: float, body: Body, coast_model: CoastModel):
+    if dt_s == 0.0:
+        return np.array(r_km, dtype=float), np.array(v_km_s, dtype=float)
+    closed = state_to_elements(r_km, v_km_s, body.mu_km3_s2).e < 1.0
+    if coast_model == "j2-secular" and closed:
+        return propagate_j2_secular(r_km, v_km_s, dt_s, body)
+    return propagate(r_km, v_km_s, dt_s, body.mu_km3_s2)
+
+
+def _arc(
+    index: int,
+    after: str | None,
+    start: np.datetime64,
+    end: np.datetime64 | None,
+    r_start_km: np.ndarray,
+    v_start_km_s: np.ndarray,
+    end_state: tuple[np.ndarray, np.ndarray] | None,
+    body: Body,
+) -> Arc:
+    mu = body.mu_km3_s2
+    elements = state_to_elements(r_start_km, v_start_km_s, mu)
+    energy = float(specific_energy_km2_s2(r_start_km, v_start_km_s, mu))
+    bound = bool(elements.e < 1.0)
+    duration = None if end is None else max(float(seconds_between(start, end)), 0.0)
+    lowest = lowest_point(
+        r_start_km,
+        v_start_km_s,
+        duration,
+        mu,
+        r_end_km=None if end_state is None else end_state[0],
+    )
+    rp = float(periapsis_radius_km(elements))
+    return Arc(
+        index=index,
+        after_maneuver=after,
+        start=start,
+        end=end,
+        r_start_km=r_start_km,
+        v_start_km_s=v_start_km_s,
+        r_end_km=None if end_state is None else end_state[0],
+        v_end_km_s=None if end_state is None else end_state[1],
+        elements=elements,
+        bound=bound,
+        specific_energy_km2_s2=energy,
+        periapsis_radius_km=rp,
+        periapsis_altitude_km=float(body.altitude_km(rp)),
+        apoapsis_altitude_km=float(body.altitude_km(apoapsis_radius_km(elements)))
+        if bound
+        else None,
+        period_s=float(period_s(elements, mu)) if bound else None,
+        lowest_altitude_km=float(body.altitude_km(lowest.radius_km)),
+        lowest_altitude_epoch=add_seconds(start, lowest.time_from_start_s)
+        if np.isfinite(lowest.time_from_start_s)
+        else start,
+    )
+
+
+def build_trajectory(
+    body: Body,
+    epoch: np.datetime64,
+    r0_km,
+    v0_km_s,
+    initial_mass_kg: float,
+    burns: Sequence[BurnSpec],
+    *,
+    coast_model: CoastModel = "two-body",
+    finite_burns: bool = True,
+) -> Trajectory:
+    """Fly the plan once with the impulsive model and return its burns and arcs.
+
+    Burns are ordered by ignition (then id, so equal ignitions stay
+    deterministic). Each burn's mass before is the previous burn's mass after;
+    the rocket equation is applied whether or not the tanks hold enough (the
+    budget is judged by a check, not here). The delta-v frame (RTN, TNW) is
+    evaluated at the pre-impulse state at the mid-point epoch.
+
+    Parameters: ``body`` the central body; ``epoch`` the plan epoch (UTC, ms);
+    ``r0_km``, ``v0_km_s`` the inertial state at ``epoch``; ``initial_mass_kg``
+    wet mass at ``epoch``; ``coast_model`` two-body or with secular J2 drift
+    (closed orbits only; unbound arcs coast two-body); ``finite_burns`` also
+    integrate each burn as a finite burn for comparison.
+    """
+    if coast_model not in ("two-body", "j2-secular"):
+        raise ValueError(f"unknown coast model {coast_model!r}; use 'two-body' or 'j2-secular'")
+    if not np.isfinite(initial_mass_kg) or initial_mass_kg <= 0.0:
+        raise ValueError(f"initial mass must be positive and finite, got {initial_mass_kg} kg")
+    ordered = sorted(burns, key=lambda burn: (burn.ignition, burn.id))
+    r_km = np.array(r0_km, dtype=float)
+    v_km_s = np.array(v0_km_s, dtype=float)
+    arc_start, after, mass_kg = epoch, None, float(initial_mass_kg)
+    results: list[BurnResult] = []
+    arcs: list[Arc] = []
+    for burn in ordered:
+        dv_local = np.asarray(burn.delta_v_m_s, dtype=float)
+        dv_m_s = float(np.linalg.norm(dv_local))
+        engine = burn.engine
+        duration = float(rocket.burn_duration_s(mass_kg, dv_m_s, engine.thrust_n, engine.isp_s))
+        propellant = float(rocket.propellant_for_delta_v_kg(mass_kg, dv_m_s, engine.isp_s))
+        centre = add_seconds(burn.ignition, duration / 2.0)
+        cutoff = add_seconds(burn.ignition, duration)
+        coast_s = float(seconds_between(arc_start, centre))
+        r_c, v_before = _coast(r_km, v_km_s, coast_s, body, coast_model)
+        arcs.append(_arc(len(arcs), after, arc_start, centre, r_km, v_km_s, (r_c, v_before), body))
+        dv_inertial = np.asarray(
+            local_to_inertial(dv_local, burn.frame, r_c, v_before), dtype=float
+        )
+        v_after = v_before + dv_inertial / 1000.0
+        finite = None
+        if finite_burns and dv_m_s > 0.0:
+            to_ignition = float(seconds_between(arc_start, burn.ignition))
+            r_ign, v_ign = _coast(r_km, v_km_s, to_ignition, body, coast_model)
+            finite = simulate_finite_burn(
+                r_ign, v_ign, mass_kg, dv_inertial, engine.thrust_n, engine.isp_s, body.mu_km3_s2
+            )
+        results.append(
+            BurnResult(
+                id=burn.id,
+                engine_id=engine.id,
+                frame=burn.frame,
+                delta_v_m_s=dv_m_s,
+                delta_v_inertial_m_s=dv_inertial,
+                propellant_kg=propellant,
+                duration_s=duration,
+                mass_before_kg=mass_kg,
+                mass_after_kg=mass_kg - propellant,
+                ignition=burn.ignition,
+                centre=centre,
+                cutoff=cutoff,
+                r_centre_km=r_c,
+                v_before_km_s=v_before,
+                v_after_km_s=v_after,
+                finite_burn=finite,
+            )
+        )
+        r_km, v_km_s, arc_start, after = r_c, v_after, centre, burn.id
+        mass_kg -= propellant
+    arcs.append(_arc(len(arcs), after, arc_start, None, r_km, v_km_s, None, body))
+    return Trajectory(
+        body=body,
+        epoch=epoch,
+        initial_mass_kg=float(initial_mass_kg),
+        coast_model=coast_model,
+        maneuvers=tuple(results),
+        arcs=tuple(arcs),
+    )
