@@ -1,0 +1,147 @@
+"""The one engine call both faces use: plan in, trajectory built once, checks run, report out."""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable
+
+import numpy as np
+
+from service.dynamics.bodies import Body, body_named
+from service.dynamics.elements import elements_from_semi_major_axis, elements_to_state
+from service.dynamics.trajectory import BurnSpec, EngineSpec, Trajectory, build_trajectory
+from service.engine.errors import EngineNotReady, PlanInvalid
+from service.engine.plan import CartesianState, Plan
+from service.engine.profiles import Profile, default_profile, resolve_thresholds
+from service.engine.registry import Registry, build_registry
+from service.engine.report import build_report
+from service.engine.runner import run_checks
+from service.plugin_api import Context
+
+
+def initial_state_km(plan: Plan, body: Body) -> tuple[np.ndarray, np.ndarray]:
+    """The plan's initial inertial state in km and km/s, whichever form it was given in."""
+    state = plan.initial_state
+    if isinstance(state, CartesianState):
+        return np.array(state.position_km, dtype=float), np.array(state.velocity_km_s, dtype=float)
+    elements = elements_from_semi_major_axis(
+        state.semi_major_axis_km,
+        state.eccentricity,
+        math.radians(state.inclination_deg),
+        math.radians(state.raan_deg),
+        math.radians(state.arg_periapsis_deg),
+        math.radians(state.true_anomaly_deg),
+    )
+    r_km, v_km_s = elements_to_state(elements, body.mu_km3_s2)
+    return np.asarray(r_km, dtype=float), np.asarray(v_km_s, dtype=float)
+
+
+def fly(plan: Plan, body: Body) -> Trajectory:
+    """Build the plan's trajectory once; physics the model cannot fly becomes a PlanInvalid."""
+    engines = {
+        engine.id: EngineSpec(engine.id, engine.thrust_n, engine.isp_s)
+        for engine in plan.spacecraft.engines
+    }
+    burns = [
+        BurnSpec(m.id, m.ignition, engines[m.engine], m.frame, m.delta_v_m_s)
+        for m in plan.maneuvers
+    ]
+    try:
+        r_km, v_km_s = initial_state_km(plan, body)
+        return build_trajectory(body, plan.epoch, r_km, v_km_s, plan.spacecraft.wet_mass_kg, burns)
+    except (ValueError, ArithmeticError, RuntimeError) as error:
+        raise PlanInvalid(
+            {"plan": [f"the trajectory cannot be computed from this plan: {error}"]}
+        ) from error
+
+
+class Engine:
+    """Holds the checks and profiles found at start-up and validates plans against them."""
+
+    def __init__(self, registry: Registry, profiles: dict[str, Profile]) -> None:
+        self.registry = registry
+        self.profiles = profiles
+
+    @property
+    def problems(self) -> list[str]:
+        return list(self.registry.problems)
+
+    @property
+    def ready(self) -> bool:
+        return not self.registry.problems and bool(self.registry.checks)
+
+    def _require_ready(self) -> None:
+        if not self.ready:
+            raise EngineNotReady(self.problems or ["no checks are registered"])
+
+    def validate(self, plan: Plan, *, profile: str | None = None) -> dict:
+        """The report for ``plan`` under ``profile`` (default: the plan's own)."""
+        self._require_ready()
+        name = profile or plan.profile
+        chosen = self.profiles.get(name)
+        if chosen is None:
+            known = ", ".join(sorted(self.profiles))
+            raise PlanInvalid({"profile": [f"unknown profile {name!r}; known: {known}"]})
+        thresholds = resolve_thresholds(chosen, self.registry, plan.rules)
+        body = body_named(plan.central_body)
+        trajectory = fly(plan, body)
+        context = Context(plan=plan, body=body, trajectory=trajectory, profile=name)
+        entries = [self.registry.checks[check_id] for check_id in thresholds]
+        findings = run_checks(entries, context, thresholds)
+        return build_report(
+            plan,
+            trajectory,
+            findings,
+            profile_name=name,
+            profile_digest=chosen.digest,
+            checks=entries,
+            thresholds=thresholds,
+        )
+
+    def checks_catalogue(self) -> list[dict]:
+        """Every registered check with its source, parameters and the profiles that enable it."""
+        catalogue = []
+        for check_id, entry in sorted(self.registry.checks.items()):
+            catalogue.append(
+                {
+                    "id": check_id,
+                    "version": entry.check.version,
+                    "source": entry.source,
+                    "distribution": entry.distribution,
+                    "summary": entry.check.summary,
+                    "parameters": [
+                        {
+                            "name": name,
+                            "default": spec.default,
+                            "unit": spec.unit,
+                            "stricter": spec.stricter,
+                            "description": spec.description,
+                        }
+                        for name, spec in sorted(entry.parameters.items())
+                    ],
+                    "profiles": sorted(
+                        p.name
+                        for p in self.profiles.values()
+                        if check_id in p.enabled_checks(self.registry)
+                    ),
+                }
+            )
+        return catalogue
+
+    def profile_document(self, name: str) -> dict | None:
+        profile = self.profiles.get(name)
+        if profile is None:
+            return None
+        return {**profile.document(), "digest": profile.digest}
+
+    def profiles_catalogue(self) -> list[dict]:
+        return [self.profile_document(name) for name in sorted(self.profiles)]  # type: ignore[misc]
+
+
+def build_engine(*, extra_plugins: Iterable[object] = (), entry_points: bool = True) -> Engine:
+    """Load the plugins and the built-in profile. Problems are kept for readiness, not raised."""
+    registry = build_registry(
+        extra_plugins=extra_plugins, entry_points_group="burnproof" if entry_points else None
+    )
+    profile = default_profile(registry)
+    return Engine(registry, {profile.name: profile})

@@ -1,0 +1,110 @@
+"""The plan as plain typed objects: what the schema layer produces and the engine consumes.
+
+Units ride in the names; angles here are degrees because they are the wire's
+values, converted to radians once when the trajectory is built.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+from dataclasses import dataclass, field
+
+import numpy as np
+
+Vector3 = tuple[float, float, float]
+
+
+@dataclass(frozen=True)
+class Engine:
+    id: str
+    thrust_n: float
+    isp_s: float
+    max_burn_s: float | None = None
+    min_burn_s: float | None = None
+
+
+@dataclass(frozen=True)
+class Spacecraft:
+    dry_mass_kg: float
+    propellant_kg: float
+    engines: tuple[Engine, ...]
+    drag_area_m2: float | None = None
+    drag_coefficient: float | None = None
+
+    @property
+    def wet_mass_kg(self) -> float:
+        return self.dry_mass_kg + self.propellant_kg
+
+    def engine(self, engine_id: str) -> Engine:
+        for engine in self.engines:
+            if engine.id == engine_id:
+                return engine
+        raise KeyError(engine_id)
+
+
+@dataclass(frozen=True)
+class CartesianState:
+    """Body-centred inertial state; GCRF and EME2000 are one inertial frame at this fidelity."""
+
+    frame: str
+    position_km: Vector3
+    velocity_km_s: Vector3
+
+
+@dataclass(frozen=True)
+class ElementsState:
+    """Osculating classical elements at the plan epoch."""
+
+    semi_major_axis_km: float
+    eccentricity: float
+    inclination_deg: float
+    raan_deg: float
+    arg_periapsis_deg: float
+    true_anomaly_deg: float
+
+
+@dataclass(frozen=True)
+class Maneuver:
+    id: str
+    ignition: np.datetime64
+    engine: str
+    frame: str
+    delta_v_m_s: Vector3
+
+
+@dataclass(frozen=True)
+class TargetOrbit:
+    periapsis_altitude_km: float
+    apoapsis_altitude_km: float
+    tolerance_km: float = 5.0
+    inclination_deg: float | None = None
+    tolerance_deg: float = 0.05
+
+
+@dataclass(frozen=True)
+class Plan:
+    """A validated plan. ``digest`` is the SHA-256 of its canonical JSON (see ``plan_digest``)."""
+
+    plan_id: str
+    central_body: str
+    epoch: np.datetime64
+    initial_state: CartesianState | ElementsState
+    spacecraft: Spacecraft
+    maneuvers: tuple[Maneuver, ...]
+    target_orbit: TargetOrbit | None
+    profile: str
+    rules: dict[str, dict[str, float]] = field(default_factory=dict)
+    digest: str = ""
+
+
+def canonical_json(data: object) -> bytes:
+    """Sorted keys, no insignificant white space, UTF-8: the bytes the digest is taken over."""
+    return json.dumps(
+        data, sort_keys=True, separators=(",", ":"), ensure_ascii=False, allow_nan=False
+    ).encode("utf-8")
+
+
+def plan_digest(data: object) -> str:
+    """``sha256:<hex>`` over the canonical JSON of the plan as received (CONTRACT.md section 2)."""
+    return "sha256:" + hashlib.sha256(canonical_json(data)).hexdigest()

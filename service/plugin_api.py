@@ -1,0 +1,120 @@
+"""The names a plugin author imports.
+
+``hookimpl``, ``Check``, ``Parameter``, ``Finding``, ``Status`` and ``Context``.
+
+A plugin module exposes ``register_checks()`` marked with ``hookimpl`` and
+returns check objects; it is found through the ``burnproof`` entry-point group.
+A check's ``evaluate(context, params)`` returns findings; the engine fills in
+the check id, catches anything the check raises, and judges the verdict.
+
+Compatibility: ``API_VERSION`` follows semantic versioning. Within a major
+version, names here are only added, hooks only gain keyword arguments, and the
+context only gains attributes.
+"""
+
+from __future__ import annotations
+
+import enum
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+from typing import Literal
+
+import pluggy
+
+from service.dynamics.bodies import Body
+from service.dynamics.trajectory import Arc, BurnResult, Trajectory
+from service.engine.hookspecs import PROJECT
+from service.engine.plan import Plan
+
+API_VERSION = "1.0"
+
+hookimpl = pluggy.HookimplMarker(PROJECT)
+
+__all__ = [
+    "API_VERSION",
+    "Arc",
+    "BurnResult",
+    "Check",
+    "Context",
+    "Finding",
+    "Parameter",
+    "Status",
+    "hookimpl",
+]
+
+
+class Status(enum.StrEnum):
+    """A finding's status. ``error``: the check broke; ``skipped``: not applicable, says why."""
+
+    PASS = "pass"
+    WARN = "warn"
+    FAIL = "fail"
+    ERROR = "error"
+    SKIPPED = "skipped"
+
+
+@dataclass(frozen=True)
+class Finding:
+    """One judgement of one check, with the number, the limit and its unit.
+
+    ``maneuver`` names the burn it concerns, or ``arc`` the coast arc index
+    (0 = before the first burn); neither for a plan-wide finding. ``check``
+    is filled in by the engine.
+    """
+
+    status: Status
+    message: str
+    value: float | None = None
+    limit: float | None = None
+    unit: str | None = None
+    maneuver: str | None = None
+    arc: int | None = None
+    check: str | None = None
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """A check's threshold: default value, unit, and which direction makes the rule stricter.
+
+    ``stricter`` is ``"higher"`` when a larger value is stricter (a floor),
+    ``"lower"`` when a smaller one is (a ceiling), or ``None`` when any change
+    from the profile counts as loosening (choices, switches).
+    """
+
+    default: float | bool | str | None
+    unit: str
+    stricter: Literal["higher", "lower"] | None
+    description: str
+
+
+@dataclass(frozen=True)
+class Context:
+    """What a check sees: the plan, the central body, and the trajectory built once by the core."""
+
+    plan: Plan
+    body: Body
+    trajectory: Trajectory
+    profile: str
+
+    def burn(self, maneuver_id: str) -> BurnResult:
+        for burn in self.trajectory.maneuvers:
+            if burn.id == maneuver_id:
+                return burn
+        raise KeyError(maneuver_id)
+
+
+class Check:
+    """Base class for a flight-rule check. Subclasses set the class attributes and ``evaluate``.
+
+    ``id`` is kebab-case and unique across all plugins; ``version`` a string;
+    ``summary`` one line; ``parameters`` maps names (units in the name) to
+    ``Parameter``.
+    """
+
+    id: str = ""
+    version: str = "1"
+    summary: str = ""
+    parameters: Mapping[str, Parameter] = {}
+
+    def evaluate(self, context: Context, params: Mapping[str, object]) -> Iterable[Finding]:
+        raise NotImplementedError
