@@ -5,7 +5,10 @@ VENV := .venv
 BIN := $(VENV)/bin
 STAMP := $(VENV)/.installed
 
-.PHONY: run test lint bench clean
+HOST ?= 127.0.0.1
+PORT ?= 8080
+
+.PHONY: run test lint bench schemas clean
 
 $(STAMP): pyproject.toml
 	$(PYTHON) -m venv $(VENV)
@@ -21,6 +24,13 @@ lint: $(STAMP)
 test: lint
 	$(BIN)/python -m pytest -q -p no:cacheprovider; rc=$$?; \
 	if [ $$rc -eq 5 ]; then echo "no tests collected: failing"; exit 1; fi; exit $$rc
+
+run: $(STAMP)
+	$(BIN)/burnproof serve --host $(HOST) --port $(PORT)
+
+# Regenerate the JSON Schema and OpenAPI documents in schemas/ from the code.
+schemas: $(STAMP)
+	$(BIN)/python -m service.schemas.export
 
 bench: $(STAMP)
 	$(BIN)/python tests/perf/bench_propagation.py

@@ -1,0 +1,151 @@
+"""The API's routes: a thin face that reads a request, calls the engine once, and writes JSON.
+
+Request body of ``POST /v1/validations``:
+
+- media type ``application/json`` exactly (any letter case), optionally with
+  ``charset=utf-8``; any other charset, any ``+json`` type (they name other
+  document formats), a missing ``Content-Type`` and any ``Content-Encoding``
+  but ``identity`` are a 415;
+- at most ``MAX_CONTENT_LENGTH`` bytes (1 MiB): a declared ``Content-Length``
+  over it is refused before a byte is read, and a body without one (chunked) is
+  read in pieces and refused as soon as it passes the limit: 413;
+- strict JSON (``service.schemas.parse_json_bytes``): 400 when malformed.
+
+The query parameter ``?profile=NAME`` (an addition to the contract) overrides
+the plan's own ``profile`` for this request.
+"""
+
+from __future__ import annotations
+
+from functools import cache
+
+from flask import Blueprint, Response, current_app, request
+from werkzeug.exceptions import RequestEntityTooLarge, UnsupportedMediaType
+from werkzeug.http import parse_options_header
+
+from service.engine.errors import PlanInvalid
+from service.http.metrics import metrics_of
+from service.http.problems import encode_json, problem
+from service.schemas import load_plan, parse_json_bytes
+
+bp = Blueprint("api", __name__)
+
+JSON_MEDIA_TYPE = "application/json"
+_READ_CHUNK_BYTES = 64 * 1024
+
+
+def _engine():  # -> service.engine.Engine, typed loosely so a test double also fits
+    return current_app.extensions["burnproof"]
+
+
+def _json(data: object, status: int = 200) -> Response:
+    return Response(encode_json(data), status=status, mimetype=JSON_MEDIA_TYPE)
+
+
+def _require_json_body() -> None:
+    """Refuse any body that is not plain, unencoded UTF-8 ``application/json`` with a 415."""
+    header = request.headers.get("Content-Type")
+    if not header:
+        raise _unsupported("the request has no Content-Type; send application/json")
+    mimetype, options = parse_options_header(header)
+    if mimetype.lower() != JSON_MEDIA_TYPE:
+        raise _unsupported(
+            f"media type {mimetype or header!r} is not supported; send {JSON_MEDIA_TYPE}"
+        )
+    charset = options.get("charset")
+    if charset is not None and charset.lower() != "utf-8":
+        raise _unsupported(f"charset {charset!r} is not supported; JSON bodies are utf-8")
+    encoding = request.headers.get("Content-Encoding", "identity").strip().lower()
+    if encoding not in ("", "identity"):
+        raise _unsupported(f"content encoding {encoding!r} is not supported; send it unencoded")
+
+
+def _unsupported(detail: str) -> UnsupportedMediaType:
+    return UnsupportedMediaType(description=detail)
+
+
+def _read_body() -> bytes:
+    """The whole body, or a 413 as soon as it passes ``MAX_CONTENT_LENGTH`` while being read."""
+    limit = current_app.config["MAX_CONTENT_LENGTH"]
+    if request.content_length is not None and request.content_length > limit:
+        raise RequestEntityTooLarge()
+    stream = request.stream  # werkzeug bounds it by Content-Length, or by the limit when chunked
+    pieces: list[bytes] = []
+    total = 0
+    while True:
+        piece = stream.read(_READ_CHUNK_BYTES)
+        if not piece:
+            return b"".join(pieces)
+        total += len(piece)
+        if total > limit:
+            raise RequestEntityTooLarge()
+        pieces.append(piece)
+
+
+def _profile_override() -> str | None:
+    values = request.args.getlist("profile")
+    if not values:
+        return None
+    if len(values) > 1:
+        raise PlanInvalid({"profile": ["give the profile query parameter at most once"]})
+    if not values[0].strip():
+        raise PlanInvalid({"profile": ["the profile query parameter must name a profile"]})
+    return values[0]
+
+
+@bp.post("/v1/validations")
+def create_validation() -> Response:
+    """Validate one plan: 200 with the report whatever its verdict; a problem otherwise."""
+    _require_json_body()
+    data = parse_json_bytes(_read_body())
+    plan = load_plan(data)
+    report = _engine().validate(plan, profile=_profile_override())
+    metrics_of(current_app).verdict(report["verdict"])
+    return _json(report)
+
+
+@bp.get("/v1/checks")
+def list_checks() -> Response:
+    return _json({"checks": _engine().checks_catalogue()})
+
+
+@bp.get("/v1/profiles")
+def list_profiles() -> Response:
+    return _json({"profiles": _engine().profiles_catalogue()})
+
+
+@bp.get("/v1/profiles/<name>")
+def get_profile(name: str) -> Response:
+    document = _engine().profile_document(name)
+    if document is None:
+        return problem(404, f"there is no profile named {name!r}")
+    return _json(document)
+
+
+@cache
+def _openapi_bytes() -> bytes:
+    from service.schemas.export import openapi_document  # built on first request, not at import
+
+    return encode_json(openapi_document())
+
+
+@bp.get("/openapi.json")
+def openapi() -> Response:
+    return Response(_openapi_bytes(), mimetype=JSON_MEDIA_TYPE)
+
+
+@bp.get("/healthz")
+def healthz() -> Response:
+    """Liveness: the process answers. Always 200."""
+    return _json({"status": "ok"})
+
+
+@bp.get("/readyz")
+def readyz() -> Response:
+    """Readiness: plugins loaded and profiles parsed; a 503 problem naming what is wrong if not."""
+    engine = _engine()
+    if engine.ready:
+        return _json({"ready": True})
+    problems = list(engine.problems)
+    detail = "the service is not ready: " + ("; ".join(problems) or "start-up did not finish")
+    return problem(503, detail, ready=False, problems=problems)
