@@ -75,10 +75,29 @@ class BurnResult:
     ignition: np.datetime64
     centre: np.datetime64
     cutoff: np.datetime64
+    r_ignition_km: np.ndarray
     r_centre_km: np.ndarray
+    r_cutoff_km: np.ndarray
     v_before_km_s: np.ndarray
     v_after_km_s: np.ndarray
     finite_burn: FiniteBurnResult | None
+
+    @property
+    def burn_arc_rad(self) -> float:
+        """Orbit angle swept from ignition to cutoff (impulsive model), about the orbit normal."""
+        normal = np.cross(self.r_centre_km, self.v_before_km_s)
+        first = np.cross(self.r_ignition_km, self.r_centre_km)
+        second = np.cross(self.r_centre_km, self.r_cutoff_km)
+        return _angle_about(first, self.r_ignition_km, self.r_centre_km, normal) + _angle_about(
+            second, self.r_centre_km, self.r_cutoff_km, normal
+        )
+
+
+def _angle_about(cross: np.ndarray, a: np.ndarray, b: np.ndarray, normal: np.ndarray) -> float:
+    """Angle from ``a`` to ``b`` in [0, 2 pi), positive in the sense of ``normal``."""
+    sine = float(np.dot(cross, normal) / np.linalg.norm(normal))
+    angle = float(np.arctan2(sine, float(np.dot(a, b))))
+    return angle if angle >= 0.0 else angle + 2.0 * np.pi
 
 
 @dataclass(frozen=True)
@@ -253,10 +272,11 @@ def build_trajectory(
             local_to_inertial(dv_local, burn.frame, r_c, v_before), dtype=float
         )
         v_after = v_before + dv_inertial / 1000.0
+        to_ignition = float(seconds_between(arc_start, burn.ignition))
+        r_ign, v_ign = _coast(r_km, v_km_s, to_ignition, body, coast_model)
+        r_cut, _ = _coast(r_c, v_after, float(seconds_between(centre, cutoff)), body, coast_model)
         finite = None
         if finite_burns and dv_m_s > 0.0:
-            to_ignition = float(seconds_between(arc_start, burn.ignition))
-            r_ign, v_ign = _coast(r_km, v_km_s, to_ignition, body, coast_model)
             finite = simulate_finite_burn(
                 r_ign, v_ign, mass_kg, dv_inertial, engine.thrust_n, engine.isp_s, body.mu_km3_s2
             )
@@ -274,7 +294,9 @@ def build_trajectory(
                 ignition=burn.ignition,
                 centre=centre,
                 cutoff=cutoff,
+                r_ignition_km=r_ign,
                 r_centre_km=r_c,
+                r_cutoff_km=r_cut,
                 v_before_km_s=v_before,
                 v_after_km_s=v_after,
                 finite_burn=finite,

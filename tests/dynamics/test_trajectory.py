@@ -228,3 +228,25 @@ def test_bad_inputs_are_refused():
         build_trajectory(EARTH, EPOCH, r, v, 0.0, [])
     with pytest.raises(ValueError, match="coast model"):
         build_trajectory(EARTH, EPOCH, r, v, 10.0, [], coast_model="n-body")
+
+
+def test_burn_arc_is_the_orbit_angle_swept_during_the_burn():
+    # On a circular orbit the angle swept is the mean motion times the burn time
+    # (n = sqrt(mu / r^3), Vallado 4th ed. chapter 2); a tiny burn barely changes the orbit.
+    r0 = RE + 400.0
+    r, v = _circular(r0, math.radians(51.6))
+    trajectory = build_trajectory(
+        EARTH, EPOCH, r, v, 602.0, [_burn("trim", EPOCH, (0.5, 0, 0))], finite_burns=False
+    )
+    burn = trajectory.maneuvers[0]
+    expected = math.sqrt(MU / r0**3) * burn.duration_s
+    assert burn.burn_arc_rad == pytest.approx(expected, rel=2e-4)
+    # A long burn: 2 m/s with 1 N from 602 kg lasts about 20 minutes, over 70 deg of orbit.
+    slow = EngineSpec(id="slow", thrust_n=1.0, isp_s=228.0)
+    long_burn = build_trajectory(
+        EARTH, EPOCH, r, v, 602.0, [_burn("long", EPOCH, (2.0, 0, 0), slow)], finite_burns=False
+    ).maneuvers[0]
+    assert math.degrees(long_burn.burn_arc_rad) == pytest.approx(
+        math.degrees(math.sqrt(MU / r0**3) * long_burn.duration_s), rel=2e-3
+    )
+    assert math.degrees(long_burn.burn_arc_rad) > 70.0
