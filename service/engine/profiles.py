@@ -8,8 +8,10 @@ with the parameter, the profile value and the requested value named.
 
 from __future__ import annotations
 
+import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from importlib.resources import files
 
 from service.engine.errors import PlanInvalid
 from service.engine.plan import plan_digest
@@ -28,6 +30,7 @@ class Profile:
     thresholds: Thresholds = field(default_factory=dict)
     enabled: tuple[str, ...] | None = None
     allow_loosening: bool = False
+    reasons: dict[str, dict[str, str]] = field(default_factory=dict)
 
     def document(self) -> dict:
         return {
@@ -37,6 +40,9 @@ class Profile:
             "enabled": None if self.enabled is None else list(self.enabled),
             "thresholds": {
                 check: dict(sorted(p.items())) for check, p in sorted(self.thresholds.items())
+            },
+            "reasons": {
+                check: dict(sorted(r.items())) for check, r in sorted(self.reasons.items())
             },
         }
 
@@ -49,17 +55,42 @@ class Profile:
         return [check_id for check_id in ids if check_id in registry.checks]
 
 
+def _split_entries(table: Mapping[str, object]) -> tuple[dict, dict]:
+    """``name = value`` or ``name = { value = ..., reason = "..." }`` -> (values, reasons)."""
+    values, reasons = {}, {}
+    for name, entry in table.items():
+        if isinstance(entry, Mapping):
+            values[name] = entry["value"]
+            if "reason" in entry:
+                reasons[name] = str(entry["reason"])
+        else:
+            values[name] = entry
+    return values, reasons
+
+
 def default_profile(registry: Registry) -> Profile:
-    """The built-in profile: every registered check at the defaults it declares."""
-    thresholds = {
-        check_id: {name: spec.default for name, spec in entry.parameters.items()}
-        for check_id, entry in sorted(registry.checks.items())
-    }
+    """The built-in profile: ``default_profile.toml`` over each check's declared defaults.
+
+    Checks the file does not mention (third-party plugins) run at their declared
+    defaults; entries for checks that are not installed are left out.
+    """
+    text = files("service.engine").joinpath("default_profile.toml").read_text("utf-8")
+    document = tomllib.loads(text)
+    thresholds: Thresholds = {}
+    reasons: dict[str, dict[str, str]] = {}
+    for check_id, entry in sorted(registry.checks.items()):
+        values, why = _split_entries(document.get("thresholds", {}).get(check_id, {}))
+        declared = {name: spec.default for name, spec in entry.parameters.items()}
+        thresholds[check_id] = {**declared, **values}
+        reasons[check_id] = {
+            name: why.get(name, spec.description) for name, spec in entry.parameters.items()
+        }
     return Profile(
-        name="default",
-        description="Every registered check at the thresholds it declares as default; "
-        "requests may tighten, never loosen.",
+        name=document["name"],
+        description=document["description"],
         thresholds=thresholds,
+        allow_loosening=bool(document.get("allow_loosening", False)),
+        reasons=reasons,
     )
 
 

@@ -180,7 +180,16 @@ _PROFILE = {
         "name": {"type": "string"},
         "description": {"type": "string"},
         "allow_loosening": {"type": "boolean"},
+        "enabled": {
+            "type": ["array", "null"],
+            "items": {"type": "string"},
+            "description": "the checks this profile runs; null means every registered check",
+        },
         "thresholds": {"type": "object", "description": "check id -> parameter -> value"},
+        "reasons": {
+            "type": "object",
+            "description": "check id -> parameter -> why this threshold, with its source",
+        },
         "digest": {"type": "string", "pattern": "^sha256:[0-9a-f]{64}$"},
     },
 }

@@ -207,3 +207,17 @@ def test_every_report_carries_the_cautions(plan):
     report = build_engine().validate(plan)
     assert report["cautions"] == list(CAUTIONS)
     assert "never replaces" in report["cautions"][0]
+
+
+def test_a_plugin_can_import_the_plugin_api_first():
+    # A third-party plugin's own tests import service.plugin_api before anything else.
+    import subprocess
+    import sys
+
+    result = subprocess.run(
+        [sys.executable, "-c", "import service.plugin_api, plugins.sequence"],
+        capture_output=True,
+        text=True,
+        check=False,
+    )
+    assert result.returncode == 0, result.stderr
