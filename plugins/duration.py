@@ -95,7 +95,8 @@ def _burn_arc(burn: BurnResult, max_deg: float, warn_deg: float) -> Finding:
 def _loss(burn: BurnResult, max_loss: float) -> Finding:
     finite = burn.finite_burn
     if finite is None:
-        message = "no finite-burn comparison was computed for this burn; loss not judged"
+        why = burn.finite_burn_skipped or "no finite-burn comparison was computed for this burn"
+        message = f"{why}; loss not judged"
         return Finding(Status.SKIPPED, message, maneuver=burn.id)
     if finite.loss_m_s is None:
         why = finite.note or "the finite-burn loss is undefined"

@@ -22,7 +22,8 @@ from pathlib import Path
 from typing import Any
 
 from service import __version__
-from service.engine import EngineNotReady, PlanInvalid, build_engine
+from service.engine import EngineNotReady, PlanInvalid
+from service.engine.core import engine_from_environment
 from service.engine.render import catalogue_to_text, to_json_bytes, to_junit, to_text
 from service.schemas import MalformedJson, load_plan, parse_json_bytes
 
@@ -48,9 +49,9 @@ def _say(message: str) -> None:
 
 
 def _engine(source: Any) -> Any:
-    """The engine to use: built from the installed plugins, or the one (or factory) given."""
+    """The engine to use: built from the environment as the service does, or the one given."""
     if source is None:
-        return build_engine()
+        return engine_from_environment(os.environ)
     if callable(source) and not hasattr(source, "validate"):
         return source()
     return source

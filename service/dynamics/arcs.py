@@ -17,7 +17,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from service.dynamics.anomalies import mean_motion_rad_s, true_to_mean_anomaly
+from service.dynamics.anomalies import (
+    mean_motion_rad_s,
+    mean_to_true_anomaly,
+    true_to_mean_anomaly,
+)
 from service.dynamics.elements import (
     ECCENTRICITY_CIRCULAR,
     periapsis_radius_km,
@@ -56,6 +60,21 @@ def time_to_next_periapsis_s(r_km, v_km_s, mu_km3_s2: float):
     to_go_open = np.where(mean_anomaly <= 0.0, -mean_anomaly / n, np.inf)
     result = np.where(closed, to_go_closed, to_go_open)
     return float(result) if result.ndim == 0 else result
+
+
+def swept_angle_rad(r_km, v_km_s, dt_s: float, mu_km3_s2: float) -> float:
+    """Orbit angle travelled in ``dt_s`` on the two-body orbit of the state, whole turns counted.
+
+    The change of true anomaly from Kepler's equation, M = M0 + n dt (Vallado 4th ed.,
+    chapter 2); elliptic mean and true anomalies keep their revolutions, so a burn that
+    lasts longer than an orbit sweeps more than 2 pi. For circular orbits the argument of
+    latitude (or true longitude) stands in for the true anomaly, as in ``elements``.
+    """
+    elements = state_to_elements(r_km, v_km_s, mu_km3_s2)
+    start = true_to_mean_anomaly(elements.nu_rad, elements.e)
+    rate = mean_motion_rad_s(elements.p_km, elements.e, mu_km3_s2)
+    end = mean_to_true_anomaly(start + rate * dt_s, elements.e)
+    return float(end - elements.nu_rad)
 
 
 def lowest_point(

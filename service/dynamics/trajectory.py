@@ -20,7 +20,7 @@ from typing import Literal
 import numpy as np
 
 from service.dynamics import rocket
-from service.dynamics.arcs import lowest_point
+from service.dynamics.arcs import lowest_point, swept_angle_rad
 from service.dynamics.bodies import Body
 from service.dynamics.elements import (
     Elements,
@@ -80,24 +80,9 @@ class BurnResult:
     r_cutoff_km: np.ndarray
     v_before_km_s: np.ndarray
     v_after_km_s: np.ndarray
+    burn_arc_rad: float
     finite_burn: FiniteBurnResult | None
-
-    @property
-    def burn_arc_rad(self) -> float:
-        """Orbit angle swept from ignition to cutoff (impulsive model), about the orbit normal."""
-        normal = np.cross(self.r_centre_km, self.v_before_km_s)
-        first = np.cross(self.r_ignition_km, self.r_centre_km)
-        second = np.cross(self.r_centre_km, self.r_cutoff_km)
-        return _angle_about(first, self.r_ignition_km, self.r_centre_km, normal) + _angle_about(
-            second, self.r_centre_km, self.r_cutoff_km, normal
-        )
-
-
-def _angle_about(cross: np.ndarray, a: np.ndarray, b: np.ndarray, normal: np.ndarray) -> float:
-    """Angle from ``a`` to ``b`` in [0, 2 pi), positive in the sense of ``normal``."""
-    sine = float(np.dot(cross, normal) / np.linalg.norm(normal))
-    angle = float(np.arctan2(sine, float(np.dot(a, b))))
-    return angle if angle >= 0.0 else angle + 2.0 * np.pi
+    finite_burn_skipped: str | None = None
 
 
 @dataclass(frozen=True)
@@ -163,6 +148,23 @@ class Trajectory:
     @property
     def final_mass_kg(self) -> float:
         return self.maneuvers[-1].mass_after_kg if self.maneuvers else self.initial_mass_kg
+
+
+# A burn longer than this, or sweeping a whole orbit, is no impulse at all: the burn-duration
+# check fails it on its arc, and integrating it would cost time without bound.
+MAX_FINITE_BURN_S = 86400.0
+
+
+def _finite_burn_out_of_reach(duration_s: float, burn_arc_rad: float) -> str | None:
+    """Why the finite-burn comparison is not integrated for this burn, or None to integrate it."""
+    if duration_s > MAX_FINITE_BURN_S:
+        return (
+            f"the burn lasts {duration_s:.0f} s, beyond the {MAX_FINITE_BURN_S:.0f} s for which "
+            "the finite-burn comparison is computed"
+        )
+    if burn_arc_rad >= 2.0 * np.pi:
+        return "the burn sweeps a whole orbit or more; the finite-burn comparison is not computed"
+    return None
 
 
 def _coast(r_km, v_km_s, dt_s: float, body: Body, coast_model: CoastModel):
@@ -274,12 +276,24 @@ def build_trajectory(
         v_after = v_before + dv_inertial / 1000.0
         to_ignition = float(seconds_between(arc_start, burn.ignition))
         r_ign, v_ign = _coast(r_km, v_km_s, to_ignition, body, coast_model)
-        r_cut, _ = _coast(r_c, v_after, float(seconds_between(centre, cutoff)), body, coast_model)
-        finite = None
+        after_centre_s = float(seconds_between(centre, cutoff))
+        r_cut, _ = _coast(r_c, v_after, after_centre_s, body, coast_model)
+        mu = body.mu_km3_s2
+        burn_arc = swept_angle_rad(r_ign, v_ign, float(seconds_between(burn.ignition, centre)), mu)
+        burn_arc += swept_angle_rad(r_c, v_after, after_centre_s, mu)
+        finite, skipped = None, None
         if finite_burns and dv_m_s > 0.0:
-            finite = simulate_finite_burn(
-                r_ign, v_ign, mass_kg, dv_inertial, engine.thrust_n, engine.isp_s, body.mu_km3_s2
-            )
+            skipped = _finite_burn_out_of_reach(duration, burn_arc)
+            if skipped is None:
+                finite = simulate_finite_burn(
+                    r_ign,
+                    v_ign,
+                    mass_kg,
+                    dv_inertial,
+                    engine.thrust_n,
+                    engine.isp_s,
+                    body.mu_km3_s2,
+                )
         results.append(
             BurnResult(
                 id=burn.id,
@@ -297,9 +311,11 @@ def build_trajectory(
                 r_ignition_km=r_ign,
                 r_centre_km=r_c,
                 r_cutoff_km=r_cut,
+                burn_arc_rad=burn_arc,
                 v_before_km_s=v_before,
                 v_after_km_s=v_after,
                 finite_burn=finite,
+                finite_burn_skipped=skipped,
             )
         )
         r_km, v_km_s, arc_start, after = r_c, v_after, centre, burn.id

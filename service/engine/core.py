@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable
+from collections.abc import Iterable, Mapping
 
 import numpy as np
 
@@ -12,8 +12,8 @@ from service.dynamics.elements import elements_from_semi_major_axis, elements_to
 from service.dynamics.trajectory import BurnSpec, EngineSpec, Trajectory, build_trajectory
 from service.engine.errors import EngineNotReady, PlanInvalid
 from service.engine.plan import CartesianState, Plan
-from service.engine.profiles import Profile, default_profile, resolve_thresholds
-from service.engine.registry import Registry, build_registry
+from service.engine.profiles import Profile, load_profiles, resolve_thresholds
+from service.engine.registry import PluginPolicy, Registry, build_registry
 from service.engine.report import build_report
 from service.engine.runner import run_checks
 from service.plugin_api import Context
@@ -47,9 +47,14 @@ def fly(plan: Plan, body: Body) -> Trajectory:
         for m in plan.maneuvers
     ]
     try:
-        r_km, v_km_s = initial_state_km(plan, body)
-        return build_trajectory(body, plan.epoch, r_km, v_km_s, plan.spacecraft.wet_mass_kg, burns)
-    except (ValueError, ArithmeticError, RuntimeError) as error:
+        # Floating-point overflow or 0/0 anywhere in the core is an error, never a silent
+        # inf or NaN that a check might read as a pass.
+        with np.errstate(over="raise", divide="raise", invalid="raise", under="ignore"):
+            r_km, v_km_s = initial_state_km(plan, body)
+            return build_trajectory(
+                body, plan.epoch, r_km, v_km_s, plan.spacecraft.wet_mass_kg, burns
+            )
+    except (ValueError, ArithmeticError, RuntimeError, RuntimeWarning) as error:
         raise PlanInvalid(
             {"plan": [f"the trajectory cannot be computed from this plan: {error}"]}
         ) from error
@@ -58,17 +63,20 @@ def fly(plan: Plan, body: Body) -> Trajectory:
 class Engine:
     """Holds the checks and profiles found at start-up and validates plans against them."""
 
-    def __init__(self, registry: Registry, profiles: dict[str, Profile]) -> None:
+    def __init__(
+        self, registry: Registry, profiles: dict[str, Profile], profile_problems: list[str] = ()
+    ) -> None:
         self.registry = registry
         self.profiles = profiles
+        self.profile_problems = list(profile_problems)
 
     @property
     def problems(self) -> list[str]:
-        return list(self.registry.problems)
+        return list(self.registry.problems) + self.profile_problems
 
     @property
     def ready(self) -> bool:
-        return not self.registry.problems and bool(self.registry.checks)
+        return not self.problems and bool(self.registry.checks)
 
     def _require_ready(self) -> None:
         if not self.ready:
@@ -87,7 +95,13 @@ class Engine:
         trajectory = fly(plan, body)
         context = Context(plan=plan, body=body, trajectory=trajectory, profile=name)
         entries = [self.registry.checks[check_id] for check_id in thresholds]
-        findings = run_checks(entries, context, thresholds)
+        findings = run_checks(
+            entries,
+            context,
+            thresholds,
+            check_budget_s=chosen.check_time_budget_s,
+            request_budget_s=chosen.request_time_budget_s,
+        )
         return build_report(
             plan,
             trajectory,
@@ -107,7 +121,8 @@ class Engine:
                     "id": check_id,
                     "version": entry.check.version,
                     "source": entry.source,
-                    "distribution": entry.distribution,
+                    "distribution": entry.origin.distribution,
+                    "distribution_version": entry.origin.distribution_version,
                     "summary": entry.check.summary,
                     "parameters": [
                         {
@@ -138,10 +153,33 @@ class Engine:
         return [self.profile_document(name) for name in sorted(self.profiles)]  # type: ignore[misc]
 
 
-def build_engine(*, extra_plugins: Iterable[object] = (), entry_points: bool = True) -> Engine:
-    """Load the plugins and the built-in profile. Problems are kept for readiness, not raised."""
+def build_engine(
+    *,
+    extra_plugins: Iterable[object] = (),
+    entry_points: bool = True,
+    profile_dir: str | None = None,
+    policy: PluginPolicy | None = None,
+) -> Engine:
+    """Load the allowed plugins and the profiles; problems are kept for readiness, not raised.
+
+    ``profile_dir`` holds a site's profile TOML files (the faces pass the
+    ``BURNPROOF_PROFILE_DIR`` environment variable); ``policy`` the site's plugin
+    allow and deny lists (``BURNPROOF_PLUGINS_ALLOW``, ``BURNPROOF_PLUGINS_DENY``).
+    """
     registry = build_registry(
-        extra_plugins=extra_plugins, entry_points_group="burnproof" if entry_points else None
+        extra_plugins=extra_plugins,
+        entry_points_group="burnproof" if entry_points else None,
+        policy=policy,
     )
-    profile = default_profile(registry)
-    return Engine(registry, {profile.name: profile})
+    profiles, problems = load_profiles(registry, profile_dir)
+    return Engine(registry, profiles, problems)
+
+
+def engine_from_environment(environ: Mapping[str, str]) -> Engine:
+    """The engine a face builds from its environment variables (see ``build_engine``)."""
+    return build_engine(
+        profile_dir=environ.get("BURNPROOF_PROFILE_DIR") or None,
+        policy=PluginPolicy.from_text(
+            environ.get("BURNPROOF_PLUGINS_ALLOW"), environ.get("BURNPROOF_PLUGINS_DENY")
+        ),
+    )

@@ -21,20 +21,67 @@ from service.plugin_api import Check, Parameter
 CHECK_ID = re.compile(r"^[a-z0-9]+(-[a-z0-9]+)*$")
 
 
+BUILT_IN_DISTRIBUTION = "burnproof"
+
+# Keyword arguments of ``register_checks`` (none yet in plugin API 1.0).
+HOOK_ARGUMENTS: dict[str, object] = {}
+
+
+@dataclass(frozen=True)
+class Origin:
+    """Where a plugin came from: its entry point (or object name) and its installed distribution."""
+
+    name: str
+    distribution: str | None = None
+    distribution_version: str | None = None
+
+
 @dataclass(frozen=True)
 class RegisteredCheck:
     """A check with where it came from: the module that defines it and its distribution."""
 
     check: Check
     source: str
-    distribution: str | None
+    origin: Origin
     parameters: Mapping[str, Parameter]
+
+    @property
+    def distribution(self) -> str | None:
+        return self.origin.distribution
 
 
 @dataclass
 class Registry:
     checks: dict[str, RegisteredCheck] = field(default_factory=dict)
     problems: list[str] = field(default_factory=list)
+    refused: list[str] = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class PluginPolicy:
+    """A site's allow and deny lists of plugin sources (entry-point or distribution names).
+
+    Deny wins. With an allow list, an installed plugin it does not name is refused;
+    burnproof's own checks are always allowed unless denied by name.
+    """
+
+    allow: frozenset[str] | None = None
+    deny: frozenset[str] = frozenset()
+
+    @classmethod
+    def from_text(cls, allow: str | None, deny: str | None) -> PluginPolicy:
+        def names(text: str | None) -> frozenset[str]:
+            return frozenset(part.strip() for part in (text or "").split(",") if part.strip())
+
+        return cls(allow=names(allow) if allow and allow.strip() else None, deny=names(deny))
+
+    def refusal(self, entry_point: str, distribution: str | None) -> str | None:
+        names = {entry_point, distribution} - {None}
+        if names & self.deny:
+            return "denied by the site's plugin deny list"
+        if self.allow is None or distribution == BUILT_IN_DISTRIBUTION or names & self.allow:
+            return None
+        return "not on the site's plugin allow list"
 
 
 def _normalise_parameters(check: Check) -> dict[str, Parameter]:
@@ -72,18 +119,19 @@ def _plugin_manager() -> pluggy.PluginManager:
     return manager
 
 
-def _add(registry: Registry, check: object, distribution: str | None, origin: str) -> None:
+def _add(registry: Registry, check: object, origin: Origin) -> None:
     fault = _describe(check)
     if fault:
-        registry.problems.append(f"plugin {origin}: check rejected: {fault}")
+        registry.problems.append(f"plugin {origin.name}: check rejected: {fault}")
         return
     try:
         parameters = _normalise_parameters(check)  # type: ignore[arg-type]
     except TypeError as error:
-        registry.problems.append(f"plugin {origin}: check {check.id!r} rejected: {error}")  # type: ignore[attr-defined]
+        check_id = check.id  # type: ignore[attr-defined]
+        registry.problems.append(f"plugin {origin.name}: check {check_id!r} rejected: {error}")
         return
     source = type(check).__module__
-    entry = RegisteredCheck(check, source, distribution, parameters)  # type: ignore[arg-type]
+    entry = RegisteredCheck(check, source, origin, parameters)  # type: ignore[arg-type]
     existing = registry.checks.get(entry.check.id)
     if existing is not None:
         registry.problems.append(
@@ -95,15 +143,28 @@ def _add(registry: Registry, check: object, distribution: str | None, origin: st
 
 
 def build_registry(
-    *, extra_plugins: Iterable[object] = (), entry_points_group: str | None = hookspecs.PROJECT
+    *,
+    extra_plugins: Iterable[object] = (),
+    entry_points_group: str | None = hookspecs.PROJECT,
+    policy: PluginPolicy | None = None,
 ) -> Registry:
-    """Load every plugin, collect its checks, and record each start-up problem in words."""
+    """Load every allowed plugin, collect its checks, and record each start-up problem in words."""
     registry = Registry()
+    policy = policy or PluginPolicy()
     manager = _plugin_manager()
-    origins: dict[int, tuple[str, str | None]] = {}
+    origins: dict[int, Origin] = {}
     if entry_points_group:
         for point in sorted(entry_points(group=entry_points_group), key=lambda p: p.name):
-            distribution = point.dist.name if point.dist is not None else None
+            dist = point.dist
+            origin = Origin(
+                point.value,
+                dist.name if dist is not None else None,
+                dist.version if dist is not None else None,
+            )
+            refusal = policy.refusal(point.name, origin.distribution)
+            if refusal:
+                registry.refused.append(f"plugin {point.name} ({origin.distribution}): {refusal}")
+                continue
             try:
                 plugin = point.load()
                 manager.register(plugin, name=f"entry-point:{point.name}")
@@ -113,23 +174,25 @@ def build_registry(
                     f"{type(error).__name__}: {error}"
                 )
                 continue
-            origins[id(plugin)] = (point.value, distribution)
+            origins[id(plugin)] = origin
     for index, plugin in enumerate(extra_plugins):
         try:
             manager.register(plugin, name=f"extra:{index}")
         except Exception as error:
             registry.problems.append(f"plugin {plugin!r} could not be registered: {error}")
             continue
-        origins[id(plugin)] = (getattr(plugin, "__name__", repr(plugin)), None)
+        origins[id(plugin)] = Origin(getattr(plugin, "__name__", repr(plugin)))
     for impl in sorted(manager.hook.register_checks.get_hookimpls(), key=lambda i: i.plugin_name):
-        origin, distribution = origins.get(id(impl.plugin), (impl.plugin_name, None))
+        origin = origins.get(id(impl.plugin), Origin(impl.plugin_name))
         try:
-            checks = list(impl.function())
+            # Each implementation gets only the hook arguments it declares, so hooks can
+            # gain arguments without breaking plugins written before them.
+            checks = list(impl.function(**{name: HOOK_ARGUMENTS[name] for name in impl.argnames}))
         except Exception as error:
             registry.problems.append(
-                f"plugin {origin}: register_checks failed: {type(error).__name__}: {error}"
+                f"plugin {origin.name}: register_checks failed: {type(error).__name__}: {error}"
             )
             continue
         for check in checks:
-            _add(registry, check, distribution, origin)
+            _add(registry, check, origin)
     return registry

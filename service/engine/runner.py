@@ -1,8 +1,13 @@
 """Runs each enabled check in its own guard and turns what it returns into findings.
 
-A check that raises, returns something that is not an iterable of findings, or
-gives a finding with a non-finite number becomes one ``error`` finding for that
-check; the other checks still run. Findings are ordered by plan position (plan-wide
+A check that raises, returns something that is not an iterable of findings,
+gives a finding with a non-finite number, or runs past its time budget becomes
+one ``error`` finding for that check; the other checks still run. Each check
+runs in a thread of its own so that the request can answer when one hangs; a
+thread that overruns is abandoned (Python cannot stop it) and finishes or
+hangs on its own, which is why gunicorn recycles workers (``max_requests``).
+
+Findings are ordered by plan position (plan-wide
 first, then by burn, each arc with the burn that opened it), then check id, then the
 order the check emitted them: never by plugin registration order.
 """
@@ -10,7 +15,9 @@ order the check emitted them: never by plugin registration order.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+import threading
+import time
+from collections.abc import Callable, Mapping
 
 from service.engine.registry import RegisteredCheck
 from service.plugin_api import Context, Finding, Status
@@ -46,14 +53,42 @@ def _finding_fault(item: object, maneuver_ids: set[str], arc_count: int) -> str 
     return None
 
 
+class _Overran(Exception):
+    pass
+
+
+def _within(budget_s: float, work: Callable[[], list]) -> list:
+    """``work()`` in a daemon thread; ``_Overran`` if it has not returned after ``budget_s``."""
+    outcome: dict[str, object] = {}
+
+    def target() -> None:
+        try:
+            outcome["value"] = work()
+        except BaseException as error:  # handed back to the caller's guard below
+            outcome["error"] = error
+
+    worker = threading.Thread(target=target, name="burnproof-check", daemon=True)
+    worker.start()
+    worker.join(budget_s if math.isfinite(budget_s) else None)
+    if worker.is_alive():
+        raise _Overran
+    if "error" in outcome:
+        raise outcome["error"]  # type: ignore[misc]
+    return outcome["value"]  # type: ignore[return-value]
+
+
 def run_check(
-    entry: RegisteredCheck, context: Context, params: Mapping[str, object]
+    entry: RegisteredCheck,
+    context: Context,
+    params: Mapping[str, object],
+    budget_s: float = math.inf,
 ) -> list[Finding]:
     """One check's findings, or a single ``error`` finding saying how it broke."""
     check_id = entry.check.id
     try:
-        returned = entry.check.evaluate(context, dict(params))
-        items = list(returned)
+        items = _within(budget_s, lambda: list(entry.check.evaluate(context, dict(params))))
+    except _Overran:
+        return [_error(check_id, f"check did not finish within its {budget_s:.3g} s time budget")]
     except Exception as error:
         return [_error(check_id, f"check failed: {type(error).__name__}: {error}")]
     maneuver_ids = {burn.id for burn in context.trajectory.maneuvers}
@@ -81,13 +116,31 @@ def run_check(
 
 
 def run_checks(
-    entries: list[RegisteredCheck], context: Context, thresholds: Mapping[str, Mapping[str, object]]
+    entries: list[RegisteredCheck],
+    context: Context,
+    thresholds: Mapping[str, Mapping[str, object]],
+    *,
+    check_budget_s: float = math.inf,
+    request_budget_s: float = math.inf,
+    clock: Callable[[], float] = time.monotonic,
 ) -> list[Finding]:
-    """Every check's findings in a deterministic order."""
+    """Every check's findings in a deterministic order, within the request's time budget.
+
+    Each check gets ``check_budget_s`` or what is left of ``request_budget_s``,
+    whichever is less; a check left without time is an ``error`` finding saying so.
+    """
     position = {burn.id: index + 1 for index, burn in enumerate(context.trajectory.maneuvers)}
+    deadline = clock() + request_budget_s
     keyed = []
     for entry in sorted(entries, key=lambda e: e.check.id):
-        for sequence, finding in enumerate(run_check(entry, context, thresholds[entry.check.id])):
+        left = deadline - clock()
+        if left <= 0.0:
+            message = f"check not run: the request's {request_budget_s:.3g} s time budget ran out"
+            findings = [_error(entry.check.id, message)]
+        else:
+            budget = min(check_budget_s, left)
+            findings = run_check(entry, context, thresholds[entry.check.id], budget)
+        for sequence, finding in enumerate(findings):
             if finding.maneuver is not None:
                 where = position[finding.maneuver]
             elif finding.arc is not None:

@@ -155,8 +155,18 @@ _CHECK = {
     "properties": {
         "id": {"type": "string"},
         "version": {"type": "string"},
-        "source": {"type": "string"},
+        "source": {"type": "string", "description": "the module that defines the check"},
+        "distribution": {
+            "type": ["string", "null"],
+            "description": "the installed package that provides it (null: registered in code)",
+        },
+        "distribution_version": {"type": ["string", "null"]},
         "summary": {"type": "string"},
+        "profiles": {
+            "type": "array",
+            "items": {"type": "string"},
+            "description": "the profiles that enable this check",
+        },
         "parameters": {
             "type": "array",
             "items": {
@@ -180,6 +190,9 @@ _PROFILE = {
         "name": {"type": "string"},
         "description": {"type": "string"},
         "allow_loosening": {"type": "boolean"},
+        "check_time_budget_s": {"type": "number", "exclusiveMinimum": 0},
+        "request_time_budget_s": {"type": "number", "exclusiveMinimum": 0},
+        "source": {"type": "string", "description": "the file it was read from, or built-in"},
         "enabled": {
             "type": ["array", "null"],
             "items": {"type": "string"},

@@ -250,3 +250,34 @@ def test_burn_arc_is_the_orbit_angle_swept_during_the_burn():
         math.degrees(math.sqrt(MU / r0**3) * long_burn.duration_s), rel=2e-3
     )
     assert math.degrees(long_burn.burn_arc_rad) > 70.0
+
+
+def test_a_burn_longer_than_an_orbit_counts_whole_turns_and_is_not_integrated():
+    # 30 m/s at 0.05 N from 602 kg lasts about 100 h: dozens of orbits. The arc counts every
+    # turn (mean motion times duration, Vallado 4th ed. chapter 2), and the finite-burn
+    # comparison is skipped with its reason rather than integrated for ever.
+    r0 = RE + 400.0
+    r, v = _circular(r0)
+    faint = EngineSpec(id="faint", thrust_n=0.05, isp_s=228.0)
+    burn = build_trajectory(
+        EARTH, EPOCH, r, v, 602.0, [_burn("spiral", EPOCH, (30.0, 0, 0), faint)]
+    ).maneuvers[0]
+    assert burn.duration_s > 86400.0
+    n = math.sqrt(MU / r0**3)
+    assert burn.burn_arc_rad == pytest.approx(n * burn.duration_s, rel=0.02)
+    assert burn.burn_arc_rad > 50 * 2.0 * math.pi
+    assert burn.finite_burn is None
+    assert "beyond the 86400 s" in burn.finite_burn_skipped
+
+
+def test_a_burn_of_more_than_one_orbit_within_a_day_is_not_integrated():
+    r0 = RE + 400.0
+    r, v = _circular(r0)
+    weak = EngineSpec(id="weak", thrust_n=0.5, isp_s=228.0)
+    burn = build_trajectory(
+        EARTH, EPOCH, r, v, 602.0, [_burn("slow", EPOCH, (12.0, 0, 0), weak)]
+    ).maneuvers[0]
+    assert 5600.0 < burn.duration_s < 86400.0
+    assert burn.burn_arc_rad > 2.0 * math.pi
+    assert burn.finite_burn is None
+    assert "whole orbit" in burn.finite_burn_skipped

@@ -221,3 +221,17 @@ def test_a_plugin_can_import_the_plugin_api_first():
         check=False,
     )
     assert result.returncode == 0, result.stderr
+
+
+def test_a_whole_number_parameter_takes_whole_numbers_only():
+    class Counted(_Fixed):
+        parameters = {"max_count": Parameter(4, "count", "lower", "a ceiling on a count")}
+
+    engine = _engine(Counted("counted-check", lambda c, p: [Finding(Status.PASS, "ok")]))
+    assert (
+        engine.validate(make_plan(rules={"counted-check": {"max_count": 3}}))["verdict"] == "pass"
+    )
+    assert engine.validate(make_plan(rules={"counted-check": {"max_count": 3.0}}))
+    with pytest.raises(PlanInvalid) as refused:
+        engine.validate(make_plan(rules={"counted-check": {"max_count": 2.5}}))
+    assert "rules.counted-check.max_count" in refused.value.errors
