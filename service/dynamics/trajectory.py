@@ -149,6 +149,30 @@ class Trajectory:
     def final_mass_kg(self) -> float:
         return self.maneuvers[-1].mass_after_kg if self.maneuvers else self.initial_mass_kg
 
+    def states_at(self, epochs) -> tuple[np.ndarray, np.ndarray]:
+        """Inertial states (N, 3) km and km/s at ``epochs`` (datetime64, any order) on the plan.
+
+        Each epoch is placed on the last arc that has started by then (arc 0 before the
+        plan epoch) and coasted from that arc's start with the trajectory's coast model:
+        the impulsive model, so inside a burn the state jumps at its mid-point. One
+        vectorised propagation per arc touched.
+        """
+        times = np.atleast_1d(np.asarray(epochs, dtype="datetime64[ms]"))
+        starts = np.array([arc.start for arc in self.arcs], dtype="datetime64[ms]")
+        started = starts[:, None] <= times[None, :]
+        last = len(self.arcs) - 1 - np.argmax(started[::-1], axis=0)
+        index = np.where(started.any(axis=0), last, 0)
+        r_km = np.empty((times.size, 3))
+        v_km_s = np.empty((times.size, 3))
+        for k in np.unique(index):
+            mask = index == k
+            arc = self.arcs[int(k)]
+            dt_s = np.asarray(seconds_between(arc.start, times[mask]), dtype=float)
+            r_km[mask], v_km_s[mask] = _coast_many(
+                arc.r_start_km, arc.v_start_km_s, dt_s, self.body, self.coast_model
+            )
+        return r_km, v_km_s
+
 
 # A burn longer than this, or sweeping a whole orbit, is no impulse at all: the burn-duration
 # check fails it on its arc, and integrating it would cost time without bound.
@@ -174,6 +198,16 @@ def _coast(r_km, v_km_s, dt_s: float, body: Body, coast_model: CoastModel):
     if coast_model == "j2-secular" and closed:
         return propagate_j2_secular(r_km, v_km_s, dt_s, body)
     return propagate(r_km, v_km_s, dt_s, body.mu_km3_s2)
+
+
+def _coast_many(r_km, v_km_s, dt_s: np.ndarray, body: Body, coast_model: CoastModel):
+    """One state coasted to many offsets (N,) in one vectorised call."""
+    closed = state_to_elements(r_km, v_km_s, body.mu_km3_s2).e < 1.0
+    if coast_model == "j2-secular" and closed:
+        r, v = propagate_j2_secular(r_km, v_km_s, dt_s, body)
+    else:
+        r, v = propagate(r_km, v_km_s, dt_s, body.mu_km3_s2)
+    return np.reshape(r, (-1, 3)), np.reshape(v, (-1, 3))
 
 
 def _arc(

@@ -9,6 +9,7 @@ from service.dynamics.arcs import lowest_point, sample_arc
 from service.dynamics.bodies import EARTH, G0_M_S2
 from service.dynamics.elements import elements_from_semi_major_axis, elements_to_state
 from service.dynamics.epochs import add_seconds, epoch, format_utc, seconds_between
+from service.dynamics.kepler import propagate
 from service.dynamics.secular import j2_secular_rates
 from service.dynamics.trajectory import BurnSpec, EngineSpec, build_trajectory
 from service.dynamics.transfers import hohmann
@@ -281,3 +282,30 @@ def test_a_burn_of_more_than_one_orbit_within_a_day_is_not_integrated():
     assert burn.burn_arc_rad > 2.0 * math.pi
     assert burn.finite_burn is None
     assert "whole orbit" in burn.finite_burn_skipped
+
+
+def test_states_at_follows_the_arcs_and_matches_the_burn_states():
+    r0 = RE + 500.0
+    r, v = _circular(r0, math.radians(45.0))
+    burns = [
+        _burn("a", add_seconds(EPOCH, 1200.0), (20.0, 0, 0)),
+        _burn("b", add_seconds(EPOCH, 5000.0), (0, 0, 10.0), frame="RTN"),
+    ]
+    trajectory = build_trajectory(EARTH, EPOCH, r, v, 602.0, burns, finite_burns=False)
+    a, b = trajectory.maneuvers
+    epochs = np.array(
+        [EPOCH, a.centre, b.centre, add_seconds(EPOCH, 9000.0), add_seconds(EPOCH, -60.0)],
+        dtype="datetime64[ms]",
+    )
+    r_km, v_km_s = trajectory.states_at(epochs)
+    np.testing.assert_allclose(r_km[0], r, atol=1e-9)
+    np.testing.assert_allclose(r_km[1], a.r_centre_km, atol=1e-6)
+    np.testing.assert_allclose(v_km_s[1], a.v_after_km_s, atol=1e-9)  # the burn has happened
+    np.testing.assert_allclose(v_km_s[2], b.v_after_km_s, atol=1e-9)
+    last = trajectory.arcs[-1]
+    expected_r, _ = propagate(
+        last.r_start_km, last.v_start_km_s, 9000.0 - float(seconds_between(EPOCH, last.start)), MU
+    )
+    np.testing.assert_allclose(r_km[3], expected_r, atol=1e-6)
+    back_r, _ = propagate(r, v, -60.0, MU)
+    np.testing.assert_allclose(r_km[4], back_r, atol=1e-6)
