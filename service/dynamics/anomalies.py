@@ -34,20 +34,19 @@ from __future__ import annotations
 import numpy as np
 from numpy.typing import ArrayLike
 
+from service.dynamics.inputs import finite, float_or_array
 from service.dynamics.kepler_equation import (
     FloatOrArray,
-    _as_float_array,
-    _eccentricity,
-    _elliptic_only,
-    _hyperbolic_only,
-    _result,
-    _wrap_revolutions,
     eccentric_to_mean_anomaly,
+    eccentricity_array,
     hyperbolic_to_mean_anomaly,
     mean_to_eccentric_anomaly,
     mean_to_hyperbolic_anomaly,
     mean_to_parabolic_anomaly,
     parabolic_to_mean_anomaly,
+    require_elliptic,
+    require_hyperbolic,
+    wrap_revolutions,
 )
 
 # --- elliptic -----------------------------------------------------------------------------------
@@ -60,15 +59,15 @@ def true_to_eccentric_anomaly(nu_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Curtis 3rd ed., section 3.4.
     ``nu_rad`` any real angle, ``e`` in [0, 1).
     """
-    nu = _as_float_array(nu_rad, "true anomaly nu_rad")
-    e_array = _eccentricity(e)
-    _elliptic_only(e_array)
-    reduced, turns = _wrap_revolutions(nu)
+    nu = finite("true anomaly nu_rad", nu_rad)
+    e_array = eccentricity_array(e)
+    require_elliptic(e_array)
+    reduced, turns = wrap_revolutions(nu)
     half = 0.5 * reduced
     eccentric = 2.0 * np.arctan2(
         np.sqrt(1.0 - e_array) * np.sin(half), np.sqrt(1.0 + e_array) * np.cos(half)
     )
-    return _result(eccentric + turns)
+    return float_or_array(eccentric + turns)
 
 
 def eccentric_to_true_anomaly(eccentric_anomaly_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
@@ -77,15 +76,15 @@ def eccentric_to_true_anomaly(eccentric_anomaly_rad: ArrayLike, e: ArrayLike) ->
     Vallado 4th ed., Algorithm 6 (anomaly to nu); Curtis 3rd ed., section 3.4.
     ``eccentric_anomaly_rad`` any real angle, ``e`` in [0, 1).
     """
-    eccentric = _as_float_array(eccentric_anomaly_rad, "eccentric anomaly")
-    e_array = _eccentricity(e)
-    _elliptic_only(e_array)
-    reduced, turns = _wrap_revolutions(eccentric)
+    eccentric = finite("eccentric anomaly", eccentric_anomaly_rad)
+    e_array = eccentricity_array(e)
+    require_elliptic(e_array)
+    reduced, turns = wrap_revolutions(eccentric)
     half = 0.5 * reduced
     nu = 2.0 * np.arctan2(
         np.sqrt(1.0 + e_array) * np.sin(half), np.sqrt(1.0 - e_array) * np.cos(half)
     )
-    return _result(nu + turns)
+    return float_or_array(nu + turns)
 
 
 # --- hyperbolic ---------------------------------------------------------------------------------
@@ -107,12 +106,12 @@ def true_to_hyperbolic_anomaly(nu_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Vallado 4th ed., Algorithm 5 (sinh H = sqrt(e^2 - 1) sin nu / (1 + e cos nu));
     Curtis 3rd ed., section 3.6. ``nu_rad`` within the asymptotes, ``e`` > 1.
     """
-    nu = _as_float_array(nu_rad, "true anomaly nu_rad")
-    e_array = _eccentricity(e)
-    _hyperbolic_only(e_array)
+    nu = finite("true anomaly nu_rad", nu_rad)
+    e_array = eccentricity_array(e)
+    require_hyperbolic(e_array)
     _check_within_asymptotes(nu, e_array)
     root = np.sqrt((e_array - 1.0) * (e_array + 1.0))
-    return _result(np.arcsinh(root * np.sin(nu) / (1.0 + e_array * np.cos(nu))))
+    return float_or_array(np.arcsinh(root * np.sin(nu) / (1.0 + e_array * np.cos(nu))))
 
 
 def hyperbolic_to_true_anomaly(hyperbolic_anomaly_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
@@ -121,11 +120,11 @@ def hyperbolic_to_true_anomaly(hyperbolic_anomaly_rad: ArrayLike, e: ArrayLike) 
     Vallado 4th ed., Algorithm 6 (tan(nu/2) = sqrt((e+1)/(e-1)) tanh(H/2));
     Curtis 3rd ed., section 3.6.
     """
-    hyperbolic = _as_float_array(hyperbolic_anomaly_rad, "hyperbolic anomaly")
-    e_array = _eccentricity(e)
-    _hyperbolic_only(e_array)
+    hyperbolic = finite("hyperbolic anomaly", hyperbolic_anomaly_rad)
+    e_array = eccentricity_array(e)
+    require_hyperbolic(e_array)
     ratio = np.sqrt((e_array + 1.0) / (e_array - 1.0))
-    return _result(2.0 * np.arctan(ratio * np.tanh(0.5 * hyperbolic)))
+    return float_or_array(2.0 * np.arctan(ratio * np.tanh(0.5 * hyperbolic)))
 
 
 # --- parabolic ----------------------------------------------------------------------------------
@@ -136,10 +135,10 @@ def true_to_parabolic_anomaly(nu_rad: ArrayLike) -> FloatOrArray:
 
     Vallado 4th ed., Algorithm 5 (B = tan(nu/2)); Curtis 3rd ed., section 3.5.
     """
-    nu = _as_float_array(nu_rad, "true anomaly nu_rad")
+    nu = finite("true anomaly nu_rad", nu_rad)
     _check_within_asymptotes(nu, np.ones_like(nu))
-    reduced, _ = _wrap_revolutions(nu)
-    return _result(np.tan(0.5 * reduced))
+    reduced, _ = wrap_revolutions(nu)
+    return float_or_array(np.tan(0.5 * reduced))
 
 
 def parabolic_to_true_anomaly(parabolic_anomaly: ArrayLike) -> FloatOrArray:
@@ -147,8 +146,8 @@ def parabolic_to_true_anomaly(parabolic_anomaly: ArrayLike) -> FloatOrArray:
 
     Vallado 4th ed., Algorithm 6.
     """
-    b = _as_float_array(parabolic_anomaly, "parabolic anomaly B")
-    return _result(2.0 * np.arctan(b))
+    b = finite("parabolic anomaly B", parabolic_anomaly)
+    return float_or_array(2.0 * np.arctan(b))
 
 
 # --- any conic ----------------------------------------------------------------------------------
@@ -170,8 +169,8 @@ def true_to_mean_anomaly(nu_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Vallado 4th ed., section 2.2 and Algorithms 2-4; Curtis 3rd ed., sections 3.4-3.6.
     ``nu_rad`` and ``e`` broadcast; e == 1 exactly selects the parabola.
     """
-    nu = _as_float_array(nu_rad, "true anomaly nu_rad")
-    e_array = _eccentricity(e)
+    nu = finite("true anomaly nu_rad", nu_rad)
+    e_array = eccentricity_array(e)
     out = _by_conic(
         e_array,
         nu,
@@ -179,7 +178,7 @@ def true_to_mean_anomaly(nu_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
         lambda x, ecc: parabolic_to_mean_anomaly(true_to_parabolic_anomaly(x)),
         lambda x, ecc: hyperbolic_to_mean_anomaly(true_to_hyperbolic_anomaly(x, ecc), ecc),
     )
-    return _result(out)
+    return float_or_array(out)
 
 
 def mean_to_true_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
@@ -189,8 +188,8 @@ def mean_to_true_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Elliptic results keep M's revolution; parabolic and hyperbolic ones lie between the
     asymptotes. Raises ValueError if Kepler's equation does not converge.
     """
-    m = _as_float_array(m_rad, "mean anomaly m_rad")
-    e_array = _eccentricity(e)
+    m = finite("mean anomaly m_rad", m_rad)
+    e_array = eccentricity_array(e)
     out = _by_conic(
         e_array,
         m,
@@ -198,7 +197,7 @@ def mean_to_true_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
         lambda x, ecc: parabolic_to_true_anomaly(mean_to_parabolic_anomaly(x)),
         lambda x, ecc: hyperbolic_to_true_anomaly(mean_to_hyperbolic_anomaly(x, ecc), ecc),
     )
-    return _result(out)
+    return float_or_array(out)
 
 
 def mean_motion_rad_s(p_km: ArrayLike, e: ArrayLike, mu_km3_s2: ArrayLike) -> FloatOrArray:
@@ -209,9 +208,9 @@ def mean_motion_rad_s(p_km: ArrayLike, e: ArrayLike, mu_km3_s2: ArrayLike) -> Fl
     equation; see the module docstring). ``p_km`` semi-latus rectum > 0, ``e`` >= 0,
     ``mu_km3_s2`` > 0.
     """
-    p = _as_float_array(p_km, "semi-latus rectum p_km")
-    e_array = _eccentricity(e)
-    mu = _as_float_array(mu_km3_s2, "mu_km3_s2")
+    p = finite("semi-latus rectum p_km", p_km)
+    e_array = eccentricity_array(e)
+    mu = finite("mu_km3_s2", mu_km3_s2)
     if np.any(p <= 0.0):
         raise ValueError(f"semi-latus rectum must be > 0 km, got {p_km!r}")
     if np.any(mu <= 0.0):
@@ -219,4 +218,4 @@ def mean_motion_rad_s(p_km: ArrayLike, e: ArrayLike, mu_km3_s2: ArrayLike) -> Fl
     one_minus_e2 = np.abs((1.0 - e_array) * (1.0 + e_array))
     parabolic = e_array == 1.0
     factor = np.where(parabolic, 2.0, one_minus_e2**1.5)
-    return _result(factor * np.sqrt(mu / p**3))
+    return float_or_array(factor * np.sqrt(mu / p**3))

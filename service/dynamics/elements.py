@@ -40,6 +40,8 @@ from dataclasses import dataclass
 import numpy as np
 from numpy.typing import ArrayLike
 
+from service.dynamics.inputs import finite
+
 TWO_PI = 2.0 * math.pi
 # e below this is treated as circular: argp is undefined and set to 0 (Vallado Algorithm 9).
 ECCENTRICITY_CIRCULAR = 1e-10
@@ -81,31 +83,24 @@ class Elements:
         p = np.asarray(self.p_km, dtype=float)
         e = np.asarray(self.e, dtype=float)
         with np.errstate(divide="ignore"):
-            return _result(p / ((1.0 - e) * (1.0 + e)))
+            return float_or_array(p / ((1.0 - e) * (1.0 + e)))
 
 
-def _result(array: ArrayLike) -> float | np.ndarray:
+def float_or_array(array: ArrayLike) -> float | np.ndarray:
     array = np.asarray(array, dtype=float)
     return float(array) if array.ndim == 0 else array
 
 
-def _finite(value, name: str) -> np.ndarray:
-    array = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(array)):
-        raise ValueError(f"{name} must be finite, got {value!r}")
-    return array
-
-
 def _mu(mu_km3_s2) -> np.ndarray:
-    mu = _finite(mu_km3_s2, "mu_km3_s2")
+    mu = finite("mu_km3_s2", mu_km3_s2)
     if np.any(mu <= 0.0):
         raise ValueError(f"mu_km3_s2 must be > 0, got {mu_km3_s2!r}")
     return mu
 
 
 def _state(r_km, v_km_s) -> tuple[np.ndarray, np.ndarray]:
-    r = _finite(r_km, "position r_km")
-    v = _finite(v_km_s, "velocity v_km_s")
+    r = finite("position r_km", r_km)
+    v = finite("velocity v_km_s", v_km_s)
     if r.shape[-1:] != (3,) or v.shape[-1:] != (3,) or r.ndim > 2 or v.ndim > 2:
         raise ValueError(
             f"r_km and v_km_s must have shape (3,) or (N, 3), got {r.shape}, {v.shape}"
@@ -169,12 +164,12 @@ def state_to_elements(r_km: ArrayLike, v_km_s: ArrayLike, mu_km3_s2: ArrayLike) 
     nu = _angle_about(periapsis_dir, r, h_hat)
     nu = np.where(e >= 1.0, nu, _wrap_2pi(nu))
     return Elements(
-        p_km=_result(p),
-        e=_result(e),
-        i_rad=_result(inclination),
-        raan_rad=_result(raan),
-        argp_rad=_result(argp),
-        nu_rad=_result(nu),
+        p_km=float_or_array(p),
+        e=float_or_array(e),
+        i_rad=float_or_array(inclination),
+        raan_rad=float_or_array(raan),
+        argp_rad=float_or_array(argp),
+        nu_rad=float_or_array(nu),
     )
 
 
@@ -247,8 +242,8 @@ def elements_from_semi_major_axis(
     ``a_km`` > 0 for e < 1 and < 0 for e > 1; e == 1 is refused because a parabola's a is
     infinite (give p to ``Elements`` directly). Angles in radians.
     """
-    a = _finite(a_km, "semi-major axis a_km")
-    ecc = _finite(e, "eccentricity e")
+    a = finite("semi-major axis a_km", a_km)
+    ecc = finite("eccentricity e", e)
     if np.any(ecc < 0.0):
         raise ValueError(f"eccentricity e must be >= 0, got {e!r}")
     if np.any(ecc == 1.0):
@@ -259,18 +254,18 @@ def elements_from_semi_major_axis(
     if np.any((ecc > 1.0) & (a >= 0.0)):
         raise ValueError(f"a hyperbola (e > 1) needs a_km < 0, got a_km = {a_km!r}")
     return Elements(
-        p_km=_result(a * (1.0 - ecc) * (1.0 + ecc)),
-        e=_result(ecc),
-        i_rad=_result(_finite(i_rad, "i_rad")),
-        raan_rad=_result(_finite(raan_rad, "raan_rad")),
-        argp_rad=_result(_finite(argp_rad, "argp_rad")),
-        nu_rad=_result(_finite(nu_rad, "nu_rad")),
+        p_km=float_or_array(a * (1.0 - ecc) * (1.0 + ecc)),
+        e=float_or_array(ecc),
+        i_rad=float_or_array(finite("i_rad", i_rad)),
+        raan_rad=float_or_array(finite("raan_rad", raan_rad)),
+        argp_rad=float_or_array(finite("argp_rad", argp_rad)),
+        nu_rad=float_or_array(finite("nu_rad", nu_rad)),
     )
 
 
 def periapsis_radius_km(elements: Elements) -> float | np.ndarray:
     """Periapsis radius p / (1 + e), km, for any conic (Vallado 4th ed., ch. 1, conic geometry)."""
-    return _result(np.asarray(elements.p_km, dtype=float) / (1.0 + np.asarray(elements.e)))
+    return float_or_array(np.asarray(elements.p_km, dtype=float) / (1.0 + np.asarray(elements.e)))
 
 
 def apoapsis_radius_km(elements: Elements) -> float | np.ndarray:
@@ -278,7 +273,7 @@ def apoapsis_radius_km(elements: Elements) -> float | np.ndarray:
     p = np.asarray(elements.p_km, dtype=float)
     e = np.asarray(elements.e, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
-        return _result(np.where(e < 1.0, p / (1.0 - e), np.nan))
+        return float_or_array(np.where(e < 1.0, p / (1.0 - e), np.nan))
 
 
 def period_s(elements: Elements, mu_km3_s2: ArrayLike) -> float | np.ndarray:
@@ -292,7 +287,7 @@ def period_s(elements: Elements, mu_km3_s2: ArrayLike) -> float | np.ndarray:
     closed = e < 1.0
     # Open orbits get a placeholder a = 1 so the masked-out branch raises no warning.
     period = TWO_PI * np.sqrt(np.where(closed, a, 1.0) ** 3 / mu)
-    return _result(np.where(closed, period, np.nan))
+    return float_or_array(np.where(closed, period, np.nan))
 
 
 def specific_energy_km2_s2(
@@ -305,4 +300,4 @@ def specific_energy_km2_s2(
     """
     r, v = _state(r_km, v_km_s)
     mu = _mu(mu_km3_s2)
-    return _result(0.5 * np.sum(v * v, axis=-1) - mu / np.linalg.norm(r, axis=-1))
+    return float_or_array(0.5 * np.sum(v * v, axis=-1) - mu / np.linalg.norm(r, axis=-1))

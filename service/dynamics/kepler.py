@@ -20,7 +20,7 @@ import numpy as np
 from scipy.optimize import newton
 from scipy.optimize.elementwise import find_root
 
-from service.dynamics.stumpff import _stumpff_cs
+from service.dynamics.stumpff import stumpff_cs
 
 # Newton iterates on y = chi / s with s = sqrt(mu) |dt| / r0 (the short-arc chi), where
 # roots are of order 1; after a step below 1e-10, Halley's cubic convergence leaves y at
@@ -58,7 +58,7 @@ def _universal(y, s, alpha):
     """
     chi = s * y
     z = alpha * chi * chi
-    c, st = _stumpff_cs(z)
+    c, st = stumpff_cs(z)
     return [1.0 - z * c, y * (1.0 - z * st), y * chi * c, y * chi * chi * st]
 
 

@@ -32,6 +32,8 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy.optimize import newton
 
+from service.dynamics.inputs import finite, float_or_array
+
 FloatOrArray = float | np.ndarray
 
 TWO_PI = 2.0 * math.pi
@@ -44,25 +46,14 @@ _SERIES_LIMIT = 1.0
 _SERIES_TERMS = 10
 
 
-def _as_float_array(value, name: str) -> np.ndarray:
-    array = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(array)):
-        raise ValueError(f"{name} must be finite, got {value!r}")
-    return array
-
-
-def _eccentricity(e) -> np.ndarray:
-    e_array = _as_float_array(e, "eccentricity e")
+def eccentricity_array(e) -> np.ndarray:
+    e_array = finite("eccentricity e", e)
     if np.any(e_array < 0.0):
         raise ValueError(f"eccentricity must be >= 0, got {e!r}")
     return e_array
 
 
-def _result(array: np.ndarray) -> FloatOrArray:
-    return float(array) if array.ndim == 0 else array
-
-
-def _wrap_revolutions(angle_rad: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def wrap_revolutions(angle_rad: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Split an angle into 2 pi k plus a remainder in [-pi, pi]."""
     turns = np.round(angle_rad / TWO_PI)
     return angle_rad - TWO_PI * turns, TWO_PI * turns
@@ -126,7 +117,7 @@ def _solve(equation: tuple, x0: np.ndarray, args: tuple, what: str) -> np.ndarra
 # --- elliptic -----------------------------------------------------------------------------------
 
 
-def _elliptic_only(e: np.ndarray) -> None:
+def require_elliptic(e: np.ndarray) -> None:
     if np.any(e >= 1.0):
         raise ValueError(f"eccentric anomaly needs an elliptic orbit (e < 1), got e = {e!r}")
 
@@ -137,10 +128,10 @@ def eccentric_to_mean_anomaly(eccentric_anomaly_rad: ArrayLike, e: ArrayLike) ->
     Vallado 4th ed., section 2.2 (Kepler's equation); Curtis 3rd ed., eq. 3.14.
     Written as (1 - e) sin E + (E - sin E) to stay accurate near e = 1.
     """
-    eccentric = _as_float_array(eccentric_anomaly_rad, "eccentric anomaly")
-    e_array = _eccentricity(e)
-    _elliptic_only(e_array)
-    return _result((1.0 - e_array) * np.sin(eccentric) + _x_minus_sin(eccentric))
+    eccentric = finite("eccentric anomaly", eccentric_anomaly_rad)
+    e_array = eccentricity_array(e)
+    require_elliptic(e_array)
+    return float_or_array((1.0 - e_array) * np.sin(eccentric) + _x_minus_sin(eccentric))
 
 
 def _kepler_elliptic(eccentric, m, e):
@@ -168,22 +159,22 @@ def mean_to_eccentric_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     function is convex there, so the iteration approaches monotonically.
     ``m_rad`` any real angle (whole revolutions kept), ``e`` in [0, 1).
     """
-    m = _as_float_array(m_rad, "mean anomaly m_rad")
-    e_array = _eccentricity(e)
-    _elliptic_only(e_array)
+    m = finite("mean anomaly m_rad", m_rad)
+    e_array = eccentricity_array(e)
+    require_elliptic(e_array)
     m, e_array = np.broadcast_arrays(m, e_array)
-    reduced, turns = _wrap_revolutions(m)
+    reduced, turns = wrap_revolutions(m)
     magnitude = np.abs(reduced)
     cube_bound = np.cbrt(6.0 * magnitude / (1.0 - math.pi**2 / 20.0))
     start = np.minimum(np.minimum(magnitude + e_array, math.pi), cube_bound)
     root = _solve(_ELLIPTIC, np.array(start), (magnitude, e_array), "elliptic Kepler equation")
-    return _result(np.copysign(root, reduced) + turns)
+    return float_or_array(np.copysign(root, reduced) + turns)
 
 
 # --- hyperbolic ---------------------------------------------------------------------------------
 
 
-def _hyperbolic_only(e: np.ndarray) -> None:
+def require_hyperbolic(e: np.ndarray) -> None:
     if np.any(e <= 1.0):
         raise ValueError(f"hyperbolic anomaly needs a hyperbolic orbit (e > 1), got e = {e!r}")
 
@@ -194,10 +185,10 @@ def hyperbolic_to_mean_anomaly(hyperbolic_anomaly_rad: ArrayLike, e: ArrayLike) 
     Vallado 4th ed., section 2.2; Curtis 3rd ed., section 3.6. Written as
     (e - 1) sinh H + (sinh H - H) to stay accurate near e = 1.
     """
-    hyperbolic = _as_float_array(hyperbolic_anomaly_rad, "hyperbolic anomaly")
-    e_array = _eccentricity(e)
-    _hyperbolic_only(e_array)
-    return _result((e_array - 1.0) * np.sinh(hyperbolic) + _sinh_minus_x(hyperbolic))
+    hyperbolic = finite("hyperbolic anomaly", hyperbolic_anomaly_rad)
+    e_array = eccentricity_array(e)
+    require_hyperbolic(e_array)
+    return float_or_array((e_array - 1.0) * np.sinh(hyperbolic) + _sinh_minus_x(hyperbolic))
 
 
 def _kepler_hyperbolic(hyperbolic, m, e):
@@ -224,14 +215,14 @@ def mean_to_hyperbolic_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     (M +- e, M/(e-1)) overflow sinh for large M, these do not. The function is convex above
     the root, so the iteration approaches monotonically.
     """
-    m = _as_float_array(m_rad, "mean anomaly m_rad")
-    e_array = _eccentricity(e)
-    _hyperbolic_only(e_array)
+    m = finite("mean anomaly m_rad", m_rad)
+    e_array = eccentricity_array(e)
+    require_hyperbolic(e_array)
     m, e_array = np.broadcast_arrays(m, e_array)
     magnitude = np.abs(m)
     start = np.minimum(np.arcsinh(magnitude / (e_array - 1.0)), np.cbrt(6.0 * magnitude / e_array))
     root = _solve(_HYPERBOLIC, np.array(start), (magnitude, e_array), "hyperbolic Kepler equation")
-    return _result(np.copysign(root, m))
+    return float_or_array(np.copysign(root, m))
 
 
 # --- parabolic ----------------------------------------------------------------------------------
@@ -242,8 +233,8 @@ def parabolic_to_mean_anomaly(parabolic_anomaly: ArrayLike) -> FloatOrArray:
 
     Vallado 4th ed., Algorithm 3 (n_p (t - T) = B + B^3/3 with n_p = 2 sqrt(mu/p^3)).
     """
-    b = _as_float_array(parabolic_anomaly, "parabolic anomaly B")
-    return _result(b + b**3 / 3.0)
+    b = finite("parabolic anomaly B", parabolic_anomaly)
+    return float_or_array(b + b**3 / 3.0)
 
 
 def mean_to_parabolic_anomaly(m_rad: ArrayLike) -> FloatOrArray:
@@ -254,5 +245,5 @@ def mean_to_parabolic_anomaly(m_rad: ArrayLike) -> FloatOrArray:
     B = 2 sinh(asinh(3M/2) / 3) (since 2 sinh 3x = 8 sinh^3 x + 6 sinh x), which has no
     cancellation at small or large M. Curtis 3rd ed., eq. 3.32 is the Cardano form of the root.
     """
-    m = _as_float_array(m_rad, "mean anomaly m_rad")
-    return _result(2.0 * np.sinh(np.arcsinh(1.5 * m) / 3.0))
+    m = finite("mean anomaly m_rad", m_rad)
+    return float_or_array(2.0 * np.sinh(np.arcsinh(1.5 * m) / 3.0))

@@ -22,11 +22,12 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy.optimize import minimize_scalar
 
-from service.dynamics.transfers import FloatOrArray, _finite, _out, _positive, _vis_viva_km_s
+from service.dynamics.inputs import FloatOrArray, finite, positive, scalar_or_array
+from service.dynamics.transfers import vis_viva_km_s
 
 
 def _angle(name: str, value: ArrayLike) -> np.ndarray:
-    arr = _finite(name, value)
+    arr = finite(name, value)
     if np.any((arr < 0.0) | (arr > math.pi)):
         raise ValueError(f"{name} must lie in [0, pi] rad, got {value!r}")
     return arr
@@ -39,10 +40,10 @@ def inclination_change_delta_v_km_s(v_km_s: ArrayLike, di_rad: ArrayLike) -> Flo
     Curtis, 3rd ed., chapter 6 (plane change maneuvers). Parameters: ``v_km_s`` speed, km/s
     (>= 0); ``di_rad`` angle, rad, in [0, pi].
     """
-    v = _finite("v_km_s", v_km_s)
+    v = finite("v_km_s", v_km_s)
     if np.any(v < 0.0):
         raise ValueError(f"v_km_s must not be negative, got {v_km_s!r}")
-    return _out(2.0 * v * np.sin(0.5 * _angle("di_rad", di_rad)))
+    return scalar_or_array(2.0 * v * np.sin(0.5 * _angle("di_rad", di_rad)))
 
 
 def combined_change_delta_v_km_s(
@@ -55,12 +56,12 @@ def combined_change_delta_v_km_s(
     sin^2(angle / 2)), which keeps full precision for small angles and near-equal speeds.
     Parameters: speeds km/s (>= 0); ``angle_rad`` rad, in [0, pi].
     """
-    v1 = _finite("v1_km_s", v1_km_s)
-    v2 = _finite("v2_km_s", v2_km_s)
+    v1 = finite("v1_km_s", v1_km_s)
+    v2 = finite("v2_km_s", v2_km_s)
     if np.any(v1 < 0.0) or np.any(v2 < 0.0):
         raise ValueError(f"speeds must not be negative, got {v1_km_s!r}, {v2_km_s!r}")
     half = np.sin(0.5 * _angle("angle_rad", angle_rad))
-    return _out(np.sqrt((v1 - v2) ** 2 + 4.0 * v1 * v2 * half**2))
+    return scalar_or_array(np.sqrt((v1 - v2) ** 2 + 4.0 * v1 * v2 * half**2))
 
 
 @dataclass(frozen=True)
@@ -120,14 +121,14 @@ def hohmann_with_plane_change(
     ``mu_km3_s2`` km^3/s^2 (> 0). Arrays broadcast; the split is solved element by element.
     """
     r1, r2, di, mu = np.broadcast_arrays(
-        _positive("r1_km", r1_km),
-        _positive("r2_km", r2_km),
+        positive("r1_km", r1_km),
+        positive("r2_km", r2_km),
         _angle("di_rad", di_rad),
-        _positive("mu_km3_s2", mu_km3_s2),
+        positive("mu_km3_s2", mu_km3_s2),
     )
     a_t = 0.5 * (r1 + r2)
     v1, v2 = np.sqrt(mu / r1), np.sqrt(mu / r2)
-    vp, va = _vis_viva_km_s(r1, a_t, mu), _vis_viva_km_s(r2, a_t, mu)
+    vp, va = vis_viva_km_s(r1, a_t, mu), vis_viva_km_s(r2, a_t, mu)
     di1 = np.empty(r1.shape)
     for idx in np.ndindex(r1.shape):
         di1[idx] = _best_first_turn_rad(v1[idx], vp[idx], va[idx], v2[idx], di[idx])
@@ -145,12 +146,12 @@ def hohmann_with_plane_change(
         coplanar1 + coplanar2 + np.asarray(inclination_change_delta_v_km_s(np.minimum(v1, v2), di))
     )
     return PlaneChangeHohmann(
-        dv1_km_s=_out(dv1),
-        dv2_km_s=_out(dv2),
-        total_km_s=_out(dv1 + dv2),
-        di1_rad=_out(di1),
-        di2_rad=_out(di2),
-        all_at_apoapsis_total_km_s=_out(all_at_apoapsis),
-        separate_total_km_s=_out(separate),
-        time_of_flight_s=_out(math.pi * np.sqrt(a_t**3 / mu)),
+        dv1_km_s=scalar_or_array(dv1),
+        dv2_km_s=scalar_or_array(dv2),
+        total_km_s=scalar_or_array(dv1 + dv2),
+        di1_rad=scalar_or_array(di1),
+        di2_rad=scalar_or_array(di2),
+        all_at_apoapsis_total_km_s=scalar_or_array(all_at_apoapsis),
+        separate_total_km_s=scalar_or_array(separate),
+        time_of_flight_s=scalar_or_array(math.pi * np.sqrt(a_t**3 / mu)),
     )

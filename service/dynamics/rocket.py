@@ -15,32 +15,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from service.dynamics.bodies import G0_M_S2
-
-
-def _finite(name: str, value: ArrayLike) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite, got {value!r}")
-    return arr
-
-
-def _positive(name: str, value: ArrayLike) -> np.ndarray:
-    arr = _finite(name, value)
-    if np.any(arr <= 0.0):
-        raise ValueError(f"{name} must be positive, got {value!r}")
-    return arr
-
-
-def _non_negative(name: str, value: ArrayLike) -> np.ndarray:
-    arr = _finite(name, value)
-    if np.any(arr < 0.0):
-        raise ValueError(f"{name} must not be negative, got {value!r}")
-    return arr
-
-
-def _out(value: np.ndarray) -> np.ndarray | np.float64:
-    """0-d results as numpy float64 scalars, arrays unchanged."""
-    return value[()] if isinstance(value, np.ndarray) and value.ndim == 0 else value
+from service.dynamics.inputs import non_negative, positive, scalar_or_array
 
 
 def exhaust_velocity_m_s(isp_s: ArrayLike) -> np.ndarray | np.float64:
@@ -49,7 +24,7 @@ def exhaust_velocity_m_s(isp_s: ArrayLike) -> np.ndarray | np.float64:
     Source: Sutton & Biblarz, Rocket Propulsion Elements, 9th ed. (2017), chapter 2
     (c = Isp g0; from memory). Parameter: ``isp_s`` specific impulse, s (> 0). Returns m/s.
     """
-    return _out(_positive("isp_s", isp_s) * G0_M_S2)
+    return scalar_or_array(positive("isp_s", isp_s) * G0_M_S2)
 
 
 def propellant_for_delta_v_kg(
@@ -63,10 +38,10 @@ def propellant_for_delta_v_kg(
     Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` velocity
     change, m/s (>= 0); ``isp_s`` specific impulse, s (> 0). Returns kg.
     """
-    m0 = _positive("mass_before_kg", mass_before_kg)
-    dv = _non_negative("delta_v_m_s", delta_v_m_s)
-    c = _positive("isp_s", isp_s) * G0_M_S2
-    return _out(-m0 * np.expm1(-dv / c))
+    m0 = positive("mass_before_kg", mass_before_kg)
+    dv = non_negative("delta_v_m_s", delta_v_m_s)
+    c = positive("isp_s", isp_s) * G0_M_S2
+    return scalar_or_array(-m0 * np.expm1(-dv / c))
 
 
 def delta_v_for_propellant_m_s(
@@ -81,15 +56,15 @@ def delta_v_for_propellant_m_s(
     burned, kg (0 <= mp < m0: burning the whole mass is refused); ``isp_s`` specific impulse,
     s (> 0). Returns m/s.
     """
-    m0 = _positive("mass_before_kg", mass_before_kg)
-    mp = _non_negative("propellant_kg", propellant_kg)
-    c = _positive("isp_s", isp_s) * G0_M_S2
+    m0 = positive("mass_before_kg", mass_before_kg)
+    mp = non_negative("propellant_kg", propellant_kg)
+    c = positive("isp_s", isp_s) * G0_M_S2
     if np.any(mp >= m0):
         raise ValueError(
             f"propellant ({propellant_kg!r} kg) must be less than the mass before the burn "
             f"({mass_before_kg!r} kg)"
         )
-    return _out(-c * np.log1p(-mp / m0))
+    return scalar_or_array(-c * np.log1p(-mp / m0))
 
 
 def mass_flow_kg_s(thrust_n: ArrayLike, isp_s: ArrayLike) -> np.ndarray | np.float64:
@@ -99,9 +74,9 @@ def mass_flow_kg_s(thrust_n: ArrayLike, isp_s: ArrayLike) -> np.ndarray | np.flo
     Parameters: ``thrust_n`` thrust, N (> 0); ``isp_s`` specific impulse, s (> 0).
     Returns kg/s.
     """
-    thrust = _positive("thrust_n", thrust_n)
-    c = _positive("isp_s", isp_s) * G0_M_S2
-    return _out(thrust / c)
+    thrust = positive("thrust_n", thrust_n)
+    c = positive("isp_s", isp_s) * G0_M_S2
+    return scalar_or_array(thrust / c)
 
 
 def burn_duration_s(
@@ -116,8 +91,8 @@ def burn_duration_s(
     Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` m/s (>= 0);
     ``thrust_n`` N (> 0); ``isp_s`` s (> 0). Returns s.
     """
-    m0 = _positive("mass_before_kg", mass_before_kg)
-    dv = _non_negative("delta_v_m_s", delta_v_m_s)
-    thrust = _positive("thrust_n", thrust_n)
-    c = _positive("isp_s", isp_s) * G0_M_S2
-    return _out(-m0 * np.expm1(-dv / c) * c / thrust)
+    m0 = positive("mass_before_kg", mass_before_kg)
+    dv = non_negative("delta_v_m_s", delta_v_m_s)
+    thrust = positive("thrust_n", thrust_n)
+    c = positive("isp_s", isp_s) * G0_M_S2
+    return scalar_or_array(-m0 * np.expm1(-dv / c) * c / thrust)

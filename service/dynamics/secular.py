@@ -32,6 +32,7 @@ from numpy.typing import ArrayLike
 from service.dynamics.anomalies import mean_to_true_anomaly, true_to_mean_anomaly
 from service.dynamics.bodies import Body
 from service.dynamics.elements import Elements, elements_to_state, state_to_elements
+from service.dynamics.inputs import float_or_array
 
 FloatOrArray = float | np.ndarray
 
@@ -42,11 +43,6 @@ def _closed_only(e: np.ndarray) -> None:
             f"J2 secular drift applies to closed orbits (e < 1) only; got e = {e!r}: an open "
             "trajectory has no revolution to average the J2 perturbation over"
         )
-
-
-def _result(array: ArrayLike) -> FloatOrArray:
-    array = np.asarray(array, dtype=float)
-    return float(array) if array.ndim == 0 else array
 
 
 def j2_secular_rates(elements: Elements, body: Body) -> tuple[FloatOrArray, ...]:
@@ -69,7 +65,7 @@ def j2_secular_rates(elements: Elements, body: Body) -> tuple[FloatOrArray, ...]
     raan_dot = -1.5 * factor * cos_i
     argp_dot = 0.75 * factor * (4.0 - 5.0 * sin_i**2)
     mean_anomaly_dot = mean_motion + 0.75 * factor * np.sqrt(one_minus_e2) * (2.0 - 3.0 * sin_i**2)
-    return _result(raan_dot), _result(argp_dot), _result(mean_anomaly_dot)
+    return float_or_array(raan_dot), float_or_array(argp_dot), float_or_array(mean_anomaly_dot)
 
 
 def propagate_j2_secular(
@@ -97,8 +93,8 @@ def propagate_j2_secular(
         p_km=start.p_km,
         e=start.e,
         i_rad=start.i_rad,
-        raan_rad=_result(start.raan_rad + np.asarray(raan_dot) * dt),
-        argp_rad=_result(start.argp_rad + np.asarray(argp_dot) * dt),
+        raan_rad=float_or_array(start.raan_rad + np.asarray(raan_dot) * dt),
+        argp_rad=float_or_array(start.argp_rad + np.asarray(argp_dot) * dt),
         nu_rad=mean_to_true_anomaly(mean_anomaly, e),
     )
     return elements_to_state(advanced, body.mu_km3_s2)

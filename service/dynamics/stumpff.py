@@ -3,7 +3,7 @@
 Why a module of its own: one pair of functions serves elliptic (z > 0), parabolic (z = 0) and
 hyperbolic (z < 0) motion, and keeping them accurate near z = 0 (a Maclaurin series where the
 closed form cancels) is a numerical question apart from solving Kepler's problem;
-``service.dynamics.kepler`` builds its universal functions U0..U3 on ``_stumpff_cs``.
+``service.dynamics.kepler`` builds its universal functions U0..U3 on ``stumpff_cs``.
 
 Sources: Vallado, Fundamentals of Astrodynamics and Applications, 4th ed. (2013), Algorithm 1
 (c2, c3); Curtis, Orbital Mechanics for Engineering Students, 3rd ed., section 3.7.
@@ -24,7 +24,7 @@ _C_COEFFS = tuple((-1.0) ** k / math.factorial(2 * k + 2) for k in range(_SERIES
 _S_COEFFS = tuple((-1.0) ** k / math.factorial(2 * k + 3) for k in range(_SERIES_TERMS))
 
 
-def _stumpff_cs(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+def stumpff_cs(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Both Stumpff functions C(z) and S(z) of a 1-D float array (see ``stumpff_c``)."""
     c = np.empty_like(z)
     s = np.empty_like(z)
@@ -63,7 +63,7 @@ def stumpff_c(z: np.ndarray | float) -> np.ndarray:
     """
     z_arr = np.asarray(z, dtype=float)
     with np.errstate(over="ignore"):
-        return _stumpff_cs(z_arr.reshape(-1))[0].reshape(z_arr.shape)
+        return stumpff_cs(z_arr.reshape(-1))[0].reshape(z_arr.shape)
 
 
 def stumpff_s(z: np.ndarray | float) -> np.ndarray:
@@ -74,4 +74,4 @@ def stumpff_s(z: np.ndarray | float) -> np.ndarray:
     """
     z_arr = np.asarray(z, dtype=float)
     with np.errstate(over="ignore"):
-        return _stumpff_cs(z_arr.reshape(-1))[1].reshape(z_arr.shape)
+        return stumpff_cs(z_arr.reshape(-1))[1].reshape(z_arr.shape)

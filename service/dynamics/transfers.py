@@ -25,31 +25,12 @@ import numpy as np
 from numpy.typing import ArrayLike
 from scipy.optimize import brentq
 
-FloatOrArray = np.float64 | np.ndarray
+from service.dynamics.inputs import FloatOrArray, positive, scalar_or_array
 
 _SQRT2 = math.sqrt(2.0)
 
 
-def _finite(name: str, value: ArrayLike) -> np.ndarray:
-    arr = np.asarray(value, dtype=float)
-    if not np.all(np.isfinite(arr)):
-        raise ValueError(f"{name} must be finite, got {value!r}")
-    return arr
-
-
-def _positive(name: str, value: ArrayLike) -> np.ndarray:
-    arr = _finite(name, value)
-    if np.any(arr <= 0.0):
-        raise ValueError(f"{name} must be positive, got {value!r}")
-    return arr
-
-
-def _out(value: np.ndarray) -> FloatOrArray:
-    """0-d results as numpy float64 scalars, arrays unchanged."""
-    return value[()] if isinstance(value, np.ndarray) and value.ndim == 0 else value
-
-
-def _vis_viva_km_s(r_km: np.ndarray, a_km: np.ndarray, mu_km3_s2: np.ndarray) -> np.ndarray:
+def vis_viva_km_s(r_km: np.ndarray, a_km: np.ndarray, mu_km3_s2: np.ndarray) -> np.ndarray:
     return np.sqrt(mu_km3_s2 * (2.0 / r_km - 1.0 / a_km))
 
 
@@ -59,7 +40,7 @@ def circular_speed_km_s(r_km: ArrayLike, mu_km3_s2: ArrayLike) -> FloatOrArray:
     Source: Vallado, 4th ed. (2013), Algorithm 36 (v_init, v_final); Curtis, 3rd ed., chapter 2
     (circular orbits). Parameters: ``r_km`` radius, km (> 0); ``mu_km3_s2`` GM, km^3/s^2 (> 0).
     """
-    return _out(np.sqrt(_positive("mu_km3_s2", mu_km3_s2) / _positive("r_km", r_km)))
+    return scalar_or_array(np.sqrt(positive("mu_km3_s2", mu_km3_s2) / positive("r_km", r_km)))
 
 
 @dataclass(frozen=True)
@@ -80,14 +61,20 @@ def hohmann(r1_km: ArrayLike, r2_km: ArrayLike, mu_km3_s2: ArrayLike) -> Hohmann
     Parameters: ``r1_km``, ``r2_km`` initial and final radii, km (> 0); ``mu_km3_s2`` GM,
     km^3/s^2 (> 0). ``dv1_km_s`` is the burn at ``r1_km``, ``dv2_km_s`` the one at ``r2_km``.
     """
-    r1 = _positive("r1_km", r1_km)
-    r2 = _positive("r2_km", r2_km)
-    mu = _positive("mu_km3_s2", mu_km3_s2)
+    r1 = positive("r1_km", r1_km)
+    r2 = positive("r2_km", r2_km)
+    mu = positive("mu_km3_s2", mu_km3_s2)
     a_t = 0.5 * (r1 + r2)
-    dv1 = np.abs(_vis_viva_km_s(r1, a_t, mu) - np.sqrt(mu / r1))
-    dv2 = np.abs(np.sqrt(mu / r2) - _vis_viva_km_s(r2, a_t, mu))
+    dv1 = np.abs(vis_viva_km_s(r1, a_t, mu) - np.sqrt(mu / r1))
+    dv2 = np.abs(np.sqrt(mu / r2) - vis_viva_km_s(r2, a_t, mu))
     tof = math.pi * np.sqrt(a_t**3 / mu)
-    return HohmannTransfer(_out(dv1), _out(dv2), _out(dv1 + dv2), _out(tof), _out(a_t))
+    return HohmannTransfer(
+        scalar_or_array(dv1),
+        scalar_or_array(dv2),
+        scalar_or_array(dv1 + dv2),
+        scalar_or_array(tof),
+        scalar_or_array(a_t),
+    )
 
 
 @dataclass(frozen=True)
@@ -112,19 +99,25 @@ def bi_elliptic(
     ``mu_km3_s2`` GM, km^3/s^2 (> 0). With ``rb_km == max(r1, r2)`` the burns are Hohmann's
     (the time of flight still includes the second half-ellipse, then half a circular orbit).
     """
-    r1 = _positive("r1_km", r1_km)
-    rb = _positive("rb_km", rb_km)
-    r2 = _positive("r2_km", r2_km)
-    mu = _positive("mu_km3_s2", mu_km3_s2)
+    r1 = positive("r1_km", r1_km)
+    rb = positive("rb_km", rb_km)
+    r2 = positive("r2_km", r2_km)
+    mu = positive("mu_km3_s2", mu_km3_s2)
     if np.any(rb < np.maximum(r1, r2)):
         raise ValueError(f"rb_km ({rb_km!r}) must be at least max(r1_km, r2_km)")
     a1 = 0.5 * (r1 + rb)
     a2 = 0.5 * (rb + r2)
-    dv1 = np.abs(_vis_viva_km_s(r1, a1, mu) - np.sqrt(mu / r1))
-    dv2 = np.abs(_vis_viva_km_s(rb, a2, mu) - _vis_viva_km_s(rb, a1, mu))
-    dv3 = np.abs(_vis_viva_km_s(r2, a2, mu) - np.sqrt(mu / r2))
+    dv1 = np.abs(vis_viva_km_s(r1, a1, mu) - np.sqrt(mu / r1))
+    dv2 = np.abs(vis_viva_km_s(rb, a2, mu) - vis_viva_km_s(rb, a1, mu))
+    dv3 = np.abs(vis_viva_km_s(r2, a2, mu) - np.sqrt(mu / r2))
     tof = math.pi * (np.sqrt(a1**3 / mu) + np.sqrt(a2**3 / mu))
-    return BiEllipticTransfer(_out(dv1), _out(dv2), _out(dv3), _out(dv1 + dv2 + dv3), _out(tof))
+    return BiEllipticTransfer(
+        scalar_or_array(dv1),
+        scalar_or_array(dv2),
+        scalar_or_array(dv3),
+        scalar_or_array(dv1 + dv2 + dv3),
+        scalar_or_array(tof),
+    )
 
 
 def bi_elliptic_limit_total_km_s(
@@ -138,10 +131,10 @@ def bi_elliptic_limit_total_km_s(
     (the derivation is ours). Parameters as ``hohmann``. The limit is approached, never
     reached: any finite rb costs more.
     """
-    mu = _positive("mu_km3_s2", mu_km3_s2)
-    v1 = np.sqrt(mu / _positive("r1_km", r1_km))
-    v2 = np.sqrt(mu / _positive("r2_km", r2_km))
-    return _out((_SQRT2 - 1.0) * (v1 + v2))
+    mu = positive("mu_km3_s2", mu_km3_s2)
+    v1 = np.sqrt(mu / positive("r1_km", r1_km))
+    v2 = np.sqrt(mu / positive("r2_km", r2_km))
+    return scalar_or_array((_SQRT2 - 1.0) * (v1 + v2))
 
 
 def _hohmann_total_per_v1(ratio: float) -> float:
@@ -246,9 +239,9 @@ def cheaper_of(
     h_total = np.asarray(h.total_km_s)
     bi_wins = bi_total < h_total
     return CheaperTransfer(
-        total_km_s=_out(np.where(bi_wins, bi_total, h_total)),
-        hohmann_total_km_s=_out(h_total),
-        bi_elliptic_total_km_s=_out(bi_total),
-        bi_elliptic_rb_km=_out(rb),
-        bi_elliptic_is_cheaper=_out(bi_wins),
+        total_km_s=scalar_or_array(np.where(bi_wins, bi_total, h_total)),
+        hohmann_total_km_s=scalar_or_array(h_total),
+        bi_elliptic_total_km_s=scalar_or_array(bi_total),
+        bi_elliptic_rb_km=scalar_or_array(rb),
+        bi_elliptic_is_cheaper=scalar_or_array(bi_wins),
     )
