@@ -24,9 +24,9 @@ import pluggy
 from service.dynamics.bodies import Body
 from service.dynamics.trajectory import Arc, BurnResult, Trajectory
 from service.engine.hookspecs import PROJECT
-from service.engine.plan import Plan
+from service.engine.plan import GroundStation, Plan
 
-API_VERSION = "1.0"
+API_VERSION = "1.1"  # 1.1 added Parameter.choices, Context.ground_stations, GroundStation
 
 hookimpl = pluggy.HookimplMarker(PROJECT)
 
@@ -37,6 +37,7 @@ __all__ = [
     "Check",
     "Context",
     "Finding",
+    "GroundStation",
     "Parameter",
     "Status",
     "hookimpl",
@@ -79,22 +80,32 @@ class Parameter:
     ``stricter`` is ``"higher"`` when a larger value is stricter (a floor),
     ``"lower"`` when a smaller one is (a ceiling), or ``None`` when any change
     from the profile counts as loosening (choices, switches).
+
+    ``choices`` lists the allowed values of a string parameter (added in 1.1,
+    optional): profiles and requests that give any other value are refused
+    naming the allowed ones. ``None`` means any string of the default's kind.
     """
 
     default: float | bool | str | None
     unit: str
     stricter: Literal["higher", "lower"] | None
     description: str
+    choices: tuple[str, ...] | None = None
 
 
 @dataclass(frozen=True)
 class Context:
-    """What a check sees: the plan, the central body, and the trajectory built once by the core."""
+    """What a check sees: the plan, the central body, and the trajectory built once by the core.
+
+    ``ground_stations`` (added in 1.1) is the network in force for this request:
+    the profile's stations first, then the plan's own (ids are unique across both).
+    """
 
     plan: Plan
     body: Body
     trajectory: Trajectory
     profile: str
+    ground_stations: tuple[GroundStation, ...] = ()
 
     def burn(self, maneuver_id: str) -> BurnResult:
         for burn in self.trajectory.maneuvers:

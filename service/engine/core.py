@@ -11,7 +11,7 @@ from service.dynamics.bodies import Body, body_named
 from service.dynamics.elements import elements_from_semi_major_axis, elements_to_state
 from service.dynamics.trajectory import BurnSpec, EngineSpec, Trajectory, build_trajectory
 from service.engine.errors import EngineNotReady, PlanInvalid
-from service.engine.plan import CartesianState, Plan
+from service.engine.plan import CartesianState, GroundStation, Plan
 from service.engine.profiles import Profile, load_profiles, resolve_thresholds
 from service.engine.registry import PluginPolicy, Registry, build_registry
 from service.engine.report import build_report
@@ -60,6 +60,19 @@ def fly(plan: Plan, body: Body) -> Trajectory:
         ) from error
 
 
+def _station_conflicts(profile: Profile, plan: Plan) -> dict[str, list[str]]:
+    """A plan station may not reuse the id of a station in the profile's network."""
+    network: dict[str, GroundStation] = {station.id: station for station in profile.stations}
+    return {
+        f"ground_stations.{index}.id": [
+            f"station {station.id!r} is already in profile {profile.name!r}; give the plan's "
+            "station an id of its own"
+        ]
+        for index, station in enumerate(plan.ground_stations)
+        if station.id in network
+    }
+
+
 class Engine:
     """Holds the checks and profiles found at start-up and validates plans against them."""
 
@@ -90,10 +103,22 @@ class Engine:
         if chosen is None:
             known = ", ".join(sorted(self.profiles))
             raise PlanInvalid({"profile": [f"unknown profile {name!r}; known: {known}"]})
-        thresholds = resolve_thresholds(chosen, self.registry, plan.rules)
+        errors = _station_conflicts(chosen, plan)
+        try:
+            thresholds = resolve_thresholds(chosen, self.registry, plan.rules)
+        except PlanInvalid as refused:
+            raise PlanInvalid({**refused.errors, **errors}) from None
+        if errors:
+            raise PlanInvalid(errors)
         body = body_named(plan.central_body)
         trajectory = fly(plan, body)
-        context = Context(plan=plan, body=body, trajectory=trajectory, profile=name)
+        context = Context(
+            plan=plan,
+            body=body,
+            trajectory=trajectory,
+            profile=name,
+            ground_stations=chosen.stations + plan.ground_stations,
+        )
         entries = [self.registry.checks[check_id] for check_id in thresholds]
         findings = run_checks(
             entries,
@@ -131,6 +156,7 @@ class Engine:
                             "unit": spec.unit,
                             "stricter": spec.stricter,
                             "description": spec.description,
+                            "choices": None if spec.choices is None else list(spec.choices),
                         }
                         for name, spec in sorted(entry.parameters.items())
                     ],

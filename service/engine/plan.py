@@ -14,6 +14,16 @@ import numpy as np
 
 Vector3 = tuple[float, float, float]
 
+# Ground stations, the same limits for a plan's own and a profile's network.
+MAX_GROUND_STATIONS = 64
+STATION_ID_MAX_CHARS = 64
+LATITUDE_RANGE_DEG = (-90.0, 90.0)  # both ends allowed
+LONGITUDE_RANGE_DEG = (-180.0, 360.0)  # east positive; the upper end excluded
+HEIGHT_RANGE_KM = (-0.5, 9.0)  # above the WGS 84 ellipsoid; both ends allowed
+MIN_ELEVATION_RANGE_DEG = (0.0, 90.0)  # the station's mask; the upper end excluded
+DEFAULT_MIN_ELEVATION_DEG = 5.0
+PROTECTED_AXIS_RANGE_DEG = (0.0, 180.0)  # both ends allowed
+
 
 @dataclass(frozen=True)
 class Engine:
@@ -31,6 +41,10 @@ class Spacecraft:
     engines: tuple[Engine, ...]
     drag_area_m2: float | None = None
     drag_coefficient: float | None = None
+    # The angle from the thrust axis of a body axis that must also keep out of the Sun
+    # (a star-tracker boresight, a radiator normal). Roll about the thrust axis is not
+    # planned, so a check takes the worst case over the cone of that half-angle.
+    protected_axis_offset_deg: float | None = None
 
     @property
     def wet_mass_kg(self) -> float:
@@ -83,6 +97,30 @@ class TargetOrbit:
 
 
 @dataclass(frozen=True)
+class GroundStation:
+    """A ground station on the WGS 84 ellipsoid: geodetic latitude, east longitude, height.
+
+    ``min_elevation_deg`` is its elevation mask: it sees the spacecraft when the
+    elevation is at or above the mask.
+    """
+
+    id: str
+    latitude_deg: float
+    longitude_deg: float
+    height_km: float
+    min_elevation_deg: float = DEFAULT_MIN_ELEVATION_DEG
+
+    def document(self) -> dict:
+        return {
+            "id": self.id,
+            "latitude_deg": float(self.latitude_deg),
+            "longitude_deg": float(self.longitude_deg),
+            "height_km": float(self.height_km),
+            "min_elevation_deg": float(self.min_elevation_deg),
+        }
+
+
+@dataclass(frozen=True)
 class Plan:
     """A validated plan. ``digest`` is the SHA-256 of its canonical JSON (see ``plan_digest``)."""
 
@@ -96,6 +134,7 @@ class Plan:
     profile: str
     rules: dict[str, dict[str, float]] = field(default_factory=dict)
     digest: str = ""
+    ground_stations: tuple[GroundStation, ...] = ()
 
 
 def canonical_json(data: object) -> bytes:

@@ -12,12 +12,30 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 
+from service.engine.plan import (
+    DEFAULT_MIN_ELEVATION_DEG,
+    HEIGHT_RANGE_KM,
+    LATITUDE_RANGE_DEG,
+    LONGITUDE_RANGE_DEG,
+    MAX_GROUND_STATIONS,
+    MIN_ELEVATION_RANGE_DEG,
+    STATION_ID_MAX_CHARS,
+    GroundStation,
+)
 from service.engine.registry import Registry
 from service.plugin_api import Parameter
 
 Thresholds = dict[str, dict[str, object]]
 
 ENTRY_KEYS = ("reason", "unit", "value")
+# [[stations]] keys: (name, unit, (low, high), high end included); None range: the id.
+STATION_KEYS = {
+    "id": None,
+    "latitude_deg": ("deg", LATITUDE_RANGE_DEG, True),
+    "longitude_deg": ("deg", LONGITUDE_RANGE_DEG, False),
+    "height_km": ("km", HEIGHT_RANGE_KM, True),
+    "min_elevation_deg": ("deg", MIN_ELEVATION_RANGE_DEG, False),
+}
 
 
 class ProfileError(ValueError):
@@ -65,8 +83,23 @@ def is_number(value: object, unit: str = "") -> str | None:
     return None
 
 
+def choices_fault(spec: Parameter, value: object) -> str | None:
+    """None when ``spec`` has no ``choices`` or ``value`` is one of them, else the refusal."""
+    if spec.choices is None or value in spec.choices:
+        return None
+    allowed = ", ".join(repr(choice) for choice in spec.choices)
+    return f"{_shown(value)} is not an allowed value; allowed: {allowed}"
+
+
 def _coerce(spec: Parameter, value: object) -> tuple[object, str | None]:
     """The value in the parameter's own type, or what is wrong with it."""
+    value, fault = _coerce_kind(spec, value)
+    if fault is None:
+        fault = choices_fault(spec, value)
+    return (None, fault) if fault else (value, None)
+
+
+def _coerce_kind(spec: Parameter, value: object) -> tuple[object, str | None]:
     default = spec.default
     if isinstance(default, bool):
         if isinstance(value, bool):
@@ -159,6 +192,75 @@ class Reader:
         if len(self.problems) > before:
             return None  # already refused; do not also flag every threshold as not enabled
         return tuple(sorted(chosen))
+
+    def stations(self, value: object) -> tuple[GroundStation, ...]:
+        """``[[stations]]``: a network of ground stations, each checked like a plan's own."""
+        if value is None:
+            return ()
+        if not isinstance(value, list) or not all(isinstance(item, Mapping) for item in value):
+            self.fault("stations", "must be an array of tables ([[stations]]), " + _not(value))
+            return ()
+        if len(value) > MAX_GROUND_STATIONS:
+            self.fault(
+                "stations", f"at most {MAX_GROUND_STATIONS} stations are allowed; got {len(value)}"
+            )
+            return ()
+        network: list[GroundStation] = []
+        first: dict[str, int] = {}
+        for index, table in enumerate(value):
+            station = self._station(table, f"stations[{index}]")
+            if station is None:
+                continue
+            if station.id in first:
+                self.fault(
+                    f"stations[{index}].id",
+                    f"station {station.id!r} is already defined at stations[{first[station.id]}]",
+                )
+                continue
+            first[station.id] = index
+            network.append(station)
+        return tuple(network)
+
+    def _station(self, table: Mapping, path: str) -> GroundStation | None:
+        before = len(self.problems)
+        for key in sorted(set(table) - set(STATION_KEYS)):
+            self.fault(f"{path}.{key}", f"unknown key; known: {', '.join(STATION_KEYS)}")
+        fields: dict[str, object] = {}
+        for key, rule in STATION_KEYS.items():
+            if key not in table:
+                if key == "min_elevation_deg":
+                    fields[key] = DEFAULT_MIN_ELEVATION_DEG
+                else:
+                    self.fault(f"{path}.{key}", "is required")
+                continue
+            value = table[key]
+            if rule is None:
+                if not isinstance(value, str):
+                    self.fault(f"{path}.{key}", f"must be a string, {_not(value)}")
+                elif not value.strip() or len(value) > STATION_ID_MAX_CHARS:
+                    self.fault(
+                        f"{path}.{key}",
+                        f"must be 1 to {STATION_ID_MAX_CHARS} characters, not only white space",
+                    )
+                elif any(ord(c) < 0x20 or 0x7F <= ord(c) <= 0x9F for c in value):
+                    self.fault(f"{path}.{key}", "must not hold control characters")
+                else:
+                    fields[key] = value
+                continue
+            unit, (low, high), high_included = rule
+            fault = is_number(value, unit)
+            if fault is None and not (
+                low <= value and (value <= high if high_included else value < high)
+            ):
+                upper = f"at most {_shown(high)}" if high_included else f"less than {_shown(high)}"
+                fault = f"must be at least {_shown(low)} and {upper} {unit}, not {_shown(value)}"
+            if fault:
+                self.fault(f"{path}.{key}", fault)
+            else:
+                fields[key] = float(value)
+        if len(self.problems) > before:
+            return None
+        return GroundStation(**fields)  # type: ignore[arg-type]
 
     def entry(self, spec: Parameter, entry: object, path: str) -> tuple[object, str | None]:
         """``value`` or ``{value = ..., reason = "...", unit = "..."}`` -> (value, reason)."""

@@ -20,6 +20,13 @@ checks declare::
     earth_min_altitude_km = 250.0
     earth_margin_km = { value = 75.0, unit = "km", reason = "why, and its source" }
 
+    [[stations]]                       # optional: the site's ground-station network
+    id = "north-1"                     # unique; a plan may add stations of its own
+    latitude_deg = 67.86               # geodetic, WGS 84
+    longitude_deg = 20.96              # east positive, [-180, 360)
+    height_km = 0.4                    # above the ellipsoid, [-0.5, 9]
+    min_elevation_deg = 5.0            # optional mask, default 5, [0, 90)
+
 Each enabled check runs with its declared defaults overlaid with the
 profile's values. A file with any problem is not loaded at all (never half
 applied); its problems name the file and the key, and the service is not ready.
@@ -35,8 +42,8 @@ from importlib.resources import files
 from pathlib import Path
 
 from service.engine.errors import PlanInvalid
-from service.engine.plan import plan_digest
-from service.engine.profile_validation import ProfileError, Reader, is_number
+from service.engine.plan import GroundStation, plan_digest
+from service.engine.profile_validation import ProfileError, Reader, choices_fault, is_number
 from service.engine.registry import Registry
 from service.plugin_api import Parameter
 
@@ -52,6 +59,7 @@ TOP_LEVEL_KEYS = (
     "enabled",
     "name",
     "request_time_budget_s",
+    "stations",
     "thresholds",
 )
 
@@ -61,9 +69,11 @@ class Profile:
     """A named set of flight rules. ``enabled`` None means every registered check.
 
     ``check_time_budget_s`` bounds one check's run and ``request_time_budget_s``
-    all checks of one request. ``origin`` is the file the profile was read from,
-    or ``"built-in"``; it is shown as ``source`` but is not part of the digest,
-    which identifies the rules themselves wherever the file is deployed.
+    all checks of one request. ``stations`` is the site's ground-station network,
+    given to every check with the plan's own stations. ``origin`` is the file the
+    profile was read from, or ``"built-in"``; it is shown as ``source`` but is not
+    part of the digest, which identifies the rules themselves wherever the file is
+    deployed.
     """
 
     name: str
@@ -75,6 +85,7 @@ class Profile:
     check_time_budget_s: float = 5.0
     request_time_budget_s: float = 30.0
     origin: str = BUILT_IN
+    stations: tuple[GroundStation, ...] = ()
 
     def __post_init__(self) -> None:
         for name in ("check_time_budget_s", "request_time_budget_s"):
@@ -97,6 +108,7 @@ class Profile:
             "reasons": {
                 check: dict(sorted(r.items())) for check, r in sorted(self.reasons.items())
             },
+            "stations": [station.document() for station in self.stations],
         }
 
     def document(self) -> dict:
@@ -135,6 +147,7 @@ def load_profile_text(
     request_budget_s = reader.seconds(document, "request_time_budget_s", 30.0)
     enabled = reader.enabled(document.get("enabled"))
     values, why = reader.thresholds(document.get("thresholds", {}), enabled)
+    stations = reader.stations(document.get("stations"))
     if reader.problems:
         raise ProfileError(reader.problems)
     thresholds: Thresholds = {}
@@ -159,6 +172,7 @@ def load_profile_text(
         check_time_budget_s=check_budget_s,
         request_time_budget_s=request_budget_s,
         origin=origin,
+        stations=stations,
     )
 
 
@@ -309,6 +323,10 @@ def resolve_thresholds(
                 continue
             if not _same_kind(spec, requested):
                 errors[path] = [f"must be of the same kind as the default {spec.default!r}"]
+                continue
+            fault = choices_fault(spec, requested)
+            if fault:
+                errors[path] = [f"{name} {fault}"]
                 continue
             current = resolved[check_id][name]
             if not profile.allow_loosening and _loosens(spec, current, requested):

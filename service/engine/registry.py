@@ -84,6 +84,21 @@ class PluginPolicy:
         return "not on the site's plugin allow list"
 
 
+def _check_choices(name: str, spec: Parameter) -> None:
+    """``choices``, when given, is a non-empty tuple of strings that holds the default."""
+    choices = getattr(spec, "choices", None)
+    if choices is None:
+        return
+    if (
+        not isinstance(choices, tuple)
+        or not choices
+        or not all(isinstance(choice, str) for choice in choices)
+    ):
+        raise TypeError(f"parameter {name!r}: choices must be a non-empty tuple of strings")
+    if spec.default is not None and spec.default not in choices:
+        raise TypeError(f"parameter {name!r}: default {spec.default!r} is not one of its choices")
+
+
 def _normalise_parameters(check: Check) -> dict[str, Parameter]:
     declared = getattr(check, "parameters", {}) or {}
     if not isinstance(declared, Mapping):
@@ -91,6 +106,7 @@ def _normalise_parameters(check: Check) -> dict[str, Parameter]:
     parameters: dict[str, Parameter] = {}
     for name, spec in declared.items():
         if isinstance(spec, Parameter):
+            _check_choices(str(name), spec)
             parameters[str(name)] = spec
         elif isinstance(spec, bool | int | float | str):
             # The contract allows a bare default; without a direction any change loosens.

@@ -305,6 +305,16 @@ def to_junit(report: Report) -> str:
     return XML_DECLARATION + ET.tostring(suite, encoding="unicode") + "\n"
 
 
+def _described(parameter: Mapping[str, Any]) -> str:
+    """The description, with the allowed values of a choice."""
+    text = str(parameter.get("description") or "")
+    choices = parameter.get("choices")
+    if choices:
+        allowed = "one of " + ", ".join(str(choice) for choice in choices)
+        text = f"{text} ({allowed})" if text else allowed
+    return text
+
+
 def catalogue_to_text(catalogue: Sequence[Mapping[str, Any]]) -> str:
     """The registered checks for a person: id, version, source, summary, parameters with units."""
     if not catalogue:
@@ -326,7 +336,7 @@ def catalogue_to_text(catalogue: Sequence[Mapping[str, Any]]) -> str:
                 _ascii(p.get("name")),
                 _with_unit(p.get("default"), p.get("unit")),
                 "-" if p.get("stricter") is None else f"{_ascii(p['stricter'])} is stricter",
-                _ascii(p.get("description") or ""),
+                _ascii(_described(p)),
             )
             for p in parameters
         ]

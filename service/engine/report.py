@@ -20,8 +20,10 @@ CAUTIONS = (
     "burnproof supports, and never replaces, the operator's own flight rules, licensed "
     "judgement and plan approval process; a 'pass' is not an authorisation to uplink.",
     "Results come from a model: two-body coasts (J2 drift only where stated), impulses at "
-    "burn mid-points, UTC treated as uniform, GCRF and EME2000 taken as one frame. Confirm "
-    "critical numbers with the mission's own high-fidelity tools before commanding.",
+    "burn mid-points, UTC treated as uniform, GCRF and EME2000 taken as one frame, a "
+    "low-precision Sun (about 0.01 deg) and Earth rotation without nutation or polar motion "
+    "(UT1 = UTC). Confirm critical numbers with the mission's own high-fidelity tools before "
+    "commanding.",
     "A check that is disabled, skipped or missing judges nothing: review the findings list "
     "and the profile, not only the verdict.",
 )

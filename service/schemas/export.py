@@ -107,6 +107,14 @@ PLAN_COMPONENTS: dict[str, tuple[type[Schema], dict]] = {
             "periapsis_altitude_km <= apoapsis_altitude_km."
         },
     ),
+    "GroundStation": (
+        plan_schemas.GroundStationSchema,
+        {
+            "description": "A ground station: geodetic latitude, east longitude and height "
+            "above the WGS 84 ellipsoid, and its elevation mask. The service also requires ids "
+            "unique within the plan and not already in the profile's station network."
+        },
+    ),
     "Plan": (
         plan_schemas.PlanSchema,
         {
@@ -178,6 +186,11 @@ _CHECK = {
                     "unit": {"type": "string"},
                     "stricter": {"enum": ["higher", "lower", None]},
                     "description": {"type": "string"},
+                    "choices": {
+                        "type": ["array", "null"],
+                        "items": {"type": "string"},
+                        "description": "the allowed values of a string parameter (null: any)",
+                    },
                 },
             },
         },
@@ -202,6 +215,12 @@ _PROFILE = {
         "reasons": {
             "type": "object",
             "description": "check id -> parameter -> why this threshold, with its source",
+        },
+        "stations": {
+            "type": "array",
+            "description": "the site's ground-station network, given to every check with the "
+            "plan's own ground_stations",
+            "items": {"$ref": _REF + "GroundStation"},
         },
         "digest": {"type": "string", "pattern": "^sha256:[0-9a-f]{64}$"},
     },

@@ -11,7 +11,8 @@ Rules beyond single fields (decided here, documented for clients):
 * unknown fields are refused at every level (marshmallow ``RAISE``);
 * ``null`` is accepted only for optional fields without a default
   (``target_orbit``, ``max_burn_s``, ``min_burn_s``, ``drag_area_m2``,
-  ``drag_coefficient``, ``target_orbit.inclination_deg``) and means "not given";
+  ``drag_coefficient``, ``protected_axis_offset_deg``, ``target_orbit.inclination_deg``)
+  and means "not given";
 * ``initial_state`` holds exactly one form: Cartesian (``frame``, ``position_km``,
   ``velocity_km_s``) or ``elements``;
 * elements: e != 1 (a semi-major axis cannot describe a parabola), a > 0 when
@@ -20,7 +21,9 @@ Rules beyond single fields (decided here, documented for clients):
   [-180, 180));
 * engine ids unique; maneuver ids unique (the error is on the later duplicate);
   each maneuver names an engine of the spacecraft; ``min_burn_s <= max_burn_s``;
-  ``target_orbit.periapsis_altitude_km <= apoapsis_altitude_km``.
+  ``target_orbit.periapsis_altitude_km <= apoapsis_altitude_km``;
+* ``ground_stations``: at most 64, ids unique within the plan (the engine also
+  refuses an id the profile's network already has).
 
 The plan's digest is ``plan_digest`` over the data exactly as received.
 """
@@ -35,9 +38,18 @@ from marshmallow import RAISE, Schema, ValidationError, post_load, validates_sch
 
 from service.engine.errors import PlanInvalid
 from service.engine.plan import (
+    DEFAULT_MIN_ELEVATION_DEG,
+    HEIGHT_RANGE_KM,
+    LATITUDE_RANGE_DEG,
+    LONGITUDE_RANGE_DEG,
+    MAX_GROUND_STATIONS,
+    MIN_ELEVATION_RANGE_DEG,
+    PROTECTED_AXIS_RANGE_DEG,
+    STATION_ID_MAX_CHARS,
     CartesianState,
     ElementsState,
     Engine,
+    GroundStation,
     Maneuver,
     Plan,
     Spacecraft,
@@ -148,6 +160,9 @@ class SpacecraftSchema(StrictSchema):
     )
     drag_area_m2 = _optional_number(gt=0)
     drag_coefficient = _optional_number(gt=0)
+    protected_axis_offset_deg = _optional_number(
+        ge=PROTECTED_AXIS_RANGE_DEG[0], le=PROTECTED_AXIS_RANGE_DEG[1]
+    )
 
     @validates_schema(pass_original=True, skip_on_field_errors=False)
     def _unique_engines(self, data: dict, original_data: object, **kwargs) -> None:
@@ -284,6 +299,28 @@ class TargetOrbitSchema(StrictSchema):
         return TargetOrbit(**data)
 
 
+class GroundStationSchema(StrictSchema):
+    """A ground station: geodetic latitude, east longitude and height on WGS 84, and its mask."""
+
+    id = StrictString(
+        required=True, min_length=1, max_length=STATION_ID_MAX_CHARS, allow_blank=False
+    )
+    latitude_deg = FiniteNumber(required=True, ge=LATITUDE_RANGE_DEG[0], le=LATITUDE_RANGE_DEG[1])
+    longitude_deg = FiniteNumber(
+        required=True, ge=LONGITUDE_RANGE_DEG[0], lt=LONGITUDE_RANGE_DEG[1]
+    )
+    height_km = FiniteNumber(required=True, ge=HEIGHT_RANGE_KM[0], le=HEIGHT_RANGE_KM[1])
+    min_elevation_deg = FiniteNumber(
+        load_default=DEFAULT_MIN_ELEVATION_DEG,
+        ge=MIN_ELEVATION_RANGE_DEG[0],
+        lt=MIN_ELEVATION_RANGE_DEG[1],
+    )
+
+    @post_load
+    def _make(self, data: dict, **kwargs) -> GroundStation:
+        return GroundStation(**data)
+
+
 class PlanSchema(StrictSchema):
     """The request body of ``POST /v1/validations`` (CONTRACT.md section 1)."""
 
@@ -298,6 +335,12 @@ class PlanSchema(StrictSchema):
     target_orbit = StrictNested(TargetOrbitSchema, allow_none=True, load_default=None)
     profile = StrictString(load_default="default", min_length=1, max_length=128)
     rules = RuleValues(load_default=dict)
+    ground_stations = BoundedList(
+        StrictNested(GroundStationSchema),
+        load_default=list,
+        max_items=MAX_GROUND_STATIONS,
+        noun="ground stations",
+    )
 
     @validates_schema(pass_original=True, skip_on_field_errors=False)
     def _references(self, data: dict, original_data: object, **kwargs) -> None:
@@ -318,13 +361,25 @@ class PlanSchema(StrictSchema):
                     errors.setdefault(index, {})["engine"] = [
                         f"unknown engine {engine!r}; known: {', '.join(known)}"
                     ]
+        stations = _duplicates(
+            original_data.get("ground_stations"), "ground station", "ground_stations"
+        )
+        faults: dict[str, object] = {}
         if errors:
-            raise ValidationError({"maneuvers": errors})
+            faults["maneuvers"] = errors
+        if stations:
+            faults["ground_stations"] = stations
+        if faults:
+            raise ValidationError(faults)
 
     @post_load(pass_original=True)
     def _make(self, data: dict, original_data: object, **kwargs) -> Plan:
         return Plan(
-            **{**data, "maneuvers": tuple(data["maneuvers"])},
+            **{
+                **data,
+                "maneuvers": tuple(data["maneuvers"]),
+                "ground_stations": tuple(data["ground_stations"]),
+            },
             digest=plan_digest(original_data),
         )
 

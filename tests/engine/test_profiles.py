@@ -8,8 +8,11 @@ from service.engine import build_engine
 BUILT_IN = {
     "burn-duration",
     "burn-sequence",
+    "eclipse-at-burn",
+    "ground-contact",
     "periapsis-floor",
     "propellant-budget",
+    "sun-exclusion",
     "thrust-to-weight",
 }
 

@@ -217,7 +217,9 @@ def test_the_installed_plugin_is_served_end_to_end(site_dir, tmp_path):
         assert finding["message"].endswith(", 2 more than the limit of 4")
         assert report["verdict"] == "fail"
 
-        every_8_h = [f"2031-05-02T{hour:02d}:00:00Z" for hour in (1, 9, 17)]
+        # three burns about 8 h apart; the second at 09:30, where its along-track thrust is
+        # 107 deg from the Sun (at 09:00 it would be 17 deg, inside sun-exclusion's cone)
+        every_8_h = [f"2031-05-02T{time}:00Z" for time in ("01:00", "09:30", "17:00")]
         status, report = _request(base + "/v1/validations", plan_with_burns(*every_8_h))
         assert status == 200, report
         (finding,) = _ours(report)

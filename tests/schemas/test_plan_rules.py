@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from service.engine.errors import PlanInvalid
-from service.engine.plan import CartesianState, ElementsState, Plan, plan_digest
+from service.engine.plan import CartesianState, ElementsState, GroundStation, Plan, plan_digest
 from service.schemas import load_plan
 from tests.plans import DELETE, elements_plan, valid_plan, with_value
 
@@ -65,6 +65,42 @@ def both_state_forms() -> dict:
 
 
 CARTESIAN_KEYS = ("frame", "position_km", "velocity_km_s")
+
+# An invented ground station, for the optional ground_stations list.
+NORTH_1 = {"id": "north-1", "latitude_deg": 67.86, "longitude_deg": 20.96, "height_km": 0.4}
+
+
+def with_station(**fields):
+    """The valid plan with one ground station, NORTH_1 with ``fields`` set (or deleted)."""
+
+    def build() -> dict:
+        plan = valid_plan()
+        station = dict(NORTH_1)
+        for key, value in fields.items():
+            if value is DELETE:
+                del station[key]
+            else:
+                station[key] = value
+        plan["ground_stations"] = [station]
+        return plan
+
+    return build
+
+
+def many_stations(count: int):
+    def build() -> dict:
+        plan = valid_plan()
+        plan["ground_stations"] = [{**NORTH_1, "id": f"s-{i}"} for i in range(count)]
+        return plan
+
+    return build
+
+
+def duplicate_station() -> dict:
+    plan = with_station()()
+    plan["ground_stations"].append({**NORTH_1, "latitude_deg": -30.0})
+    return plan
+
 
 # (case id, plan builder, path the error must be on, words the message must contain)
 CASES = [
@@ -253,6 +289,49 @@ CASES = [
      "rules.periapsis-floor.min_altitude_km", "got NaN"),
     ("rules-list-value", change("rules.periapsis-floor.min_altitude_km", [250]),
      "rules.periapsis-floor.min_altitude_km", "a finite number, a boolean or a string"),
+    # the protected axis of the spacecraft
+    ("protected-axis-181", change("spacecraft.protected_axis_offset_deg", 181.0),
+     "spacecraft.protected_axis_offset_deg", "from 0 to 180 inclusive; got 181"),
+    ("protected-axis-negative", change("spacecraft.protected_axis_offset_deg", -0.5),
+     "spacecraft.protected_axis_offset_deg", "got -0.5"),
+    ("protected-axis-string", change("spacecraft.protected_axis_offset_deg", "45"),
+     "spacecraft.protected_axis_offset_deg", "got a string ('45')"),
+    # ground stations
+    ("stations-not-list", change("ground_stations", {"id": "north-1"}), "ground_stations",
+     "must be a list"),
+    ("stations-65", many_stations(65), "ground_stations", "at most 64 ground stations; got 65"),
+    ("stations-null", change("ground_stations", None), "ground_stations", "not null"),
+    ("station-not-object", change("ground_stations", ["north-1"]), "ground_stations.0",
+     "each item of ground_stations must be a JSON object"),
+    ("station-unknown-field", with_station(altitude_m=400.0), "ground_stations.0.altitude_m",
+     "unknown field 'altitude_m'"),
+    ("station-id-missing", with_station(id=DELETE), "ground_stations.0.id", "is required"),
+    ("station-id-blank", with_station(id="   "), "ground_stations.0.id", "white space"),
+    ("station-id-long", with_station(id="s" * 65), "ground_stations.0.id", "got 65 characters"),
+    ("station-id-duplicate", duplicate_station, "ground_stations.1.id",
+     "'north-1' is already used by ground_stations.0; each ground station needs a unique id"),
+    ("station-latitude-missing", with_station(latitude_deg=DELETE),
+     "ground_stations.0.latitude_deg", "is required"),
+    ("station-latitude-91", with_station(latitude_deg=91.0), "ground_stations.0.latitude_deg",
+     "from -90 to 90 inclusive; got 91"),
+    ("station-latitude-string", with_station(latitude_deg="67.86"),
+     "ground_stations.0.latitude_deg", "got a string ('67.86')"),
+    ("station-longitude-360", with_station(longitude_deg=360.0),
+     "ground_stations.0.longitude_deg", "at least -180 and less than 360; got 360"),
+    ("station-longitude-low", with_station(longitude_deg=-180.5),
+     "ground_stations.0.longitude_deg", "got -180.5"),
+    ("station-height-missing", with_station(height_km=DELETE), "ground_stations.0.height_km",
+     "is required"),
+    ("station-height-high", with_station(height_km=9.5), "ground_stations.0.height_km",
+     "from -0.5 to 9 inclusive; got 9.5"),
+    ("station-height-low", with_station(height_km=-0.6), "ground_stations.0.height_km",
+     "got -0.6"),
+    ("station-mask-90", with_station(min_elevation_deg=90.0),
+     "ground_stations.0.min_elevation_deg", "at least 0 and less than 90; got 90"),
+    ("station-mask-negative", with_station(min_elevation_deg=-1.0),
+     "ground_stations.0.min_elevation_deg", "got -1"),
+    ("station-mask-null", with_station(min_elevation_deg=None),
+     "ground_stations.0.min_elevation_deg", "default 5.0"),
 ]  # fmt: skip
 
 
@@ -369,6 +448,49 @@ def test_target_orbit_defaults() -> None:
 )
 def test_accepted_edges(path: str, value: object) -> None:
     load_plan(with_value(valid_plan(), path, value))
+
+
+@pytest.mark.parametrize(
+    ("field", "value"),
+    [
+        ("latitude_deg", -90.0),
+        ("latitude_deg", 90.0),
+        ("longitude_deg", -180.0),
+        ("longitude_deg", 359.999),
+        ("height_km", -0.5),
+        ("height_km", 9.0),
+        ("min_elevation_deg", 0.0),
+        ("min_elevation_deg", 89.999),
+        ("id", "s" * 64),
+    ],
+)
+def test_ground_station_edges_are_accepted(field: str, value: object) -> None:
+    (station,) = load_plan(with_station(**{field: value})()).ground_stations
+    assert getattr(station, field) == value
+
+
+@pytest.mark.parametrize("value", [0.0, 180.0, 45, None])
+def test_protected_axis_offset_edges_are_accepted(value: object) -> None:
+    plan = load_plan(with_value(valid_plan(), "spacecraft.protected_axis_offset_deg", value))
+    assert plan.spacecraft.protected_axis_offset_deg == value
+
+
+def test_ground_stations_load_into_typed_objects_with_the_default_mask() -> None:
+    plan = load_plan(many_stations(64)())
+    assert len(plan.ground_stations) == 64
+    first = plan.ground_stations[0]
+    assert first == GroundStation("s-0", 67.86, 20.96, 0.4, 5.0)
+    assert load_plan(valid_plan()).ground_stations == ()
+    assert load_plan(valid_plan()).spacecraft.protected_axis_offset_deg is None
+
+
+@pytest.mark.parametrize("bad", [math.nan, math.inf, -math.inf], ids=["nan", "inf", "-inf"])
+@pytest.mark.parametrize(
+    "field", ["latitude_deg", "longitude_deg", "height_km", "min_elevation_deg"]
+)
+def test_a_non_finite_station_number_is_named(field: str, bad: float) -> None:
+    errors = _errors(with_station(**{field: bad})())
+    assert f"ground_stations.0.{field}" in errors, errors
 
 
 def test_five_hundred_maneuvers_are_allowed() -> None:
