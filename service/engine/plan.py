@@ -23,6 +23,9 @@ HEIGHT_RANGE_KM = (-0.5, 9.0)  # above the WGS 84 ellipsoid; both ends allowed
 MIN_ELEVATION_RANGE_DEG = (0.0, 90.0)  # the station's mask; the upper end excluded
 DEFAULT_MIN_ELEVATION_DEG = 5.0
 PROTECTED_AXIS_RANGE_DEG = (0.0, 180.0)  # both ends allowed
+# CR: 1 absorbs all sunlight, 2 reflects all of it straight back (Vallado 4th ed. section 8.6.4,
+# from memory); both ends allowed.
+REFLECTIVITY_COEFFICIENT_RANGE = (1.0, 2.0)
 
 
 @dataclass(frozen=True)
@@ -45,6 +48,11 @@ class Spacecraft:
     # (a star-tracker boresight, a radiator normal). Roll about the thrust axis is not
     # planned, so a check takes the worst case over the cone of that half-angle.
     protected_axis_offset_deg: float | None = None
+    # Solar radiation pressure, for the geostationary graveyard rule (IADC-02-01 section 5.3.1):
+    # the area exposed to sunlight (m^2, attitude-averaged) and the reflectivity coefficient CR
+    # (1 for a perfect absorber, 2 for a perfect mirror).
+    srp_area_m2: float | None = None
+    reflectivity_coefficient: float | None = None
 
     @property
     def wet_mass_kg(self) -> float:
@@ -135,6 +143,9 @@ class Plan:
     rules: dict[str, dict[str, float]] = field(default_factory=dict)
     digest: str = ""
     ground_stations: tuple[GroundStation, ...] = ()
+    # The plan is an end-of-life disposal: the disposal check judges where it leaves the
+    # spacecraft (graveyard orbit, orbital lifetime or controlled re-entry).
+    end_of_life: bool = False
 
 
 def canonical_json(data: object) -> bytes:

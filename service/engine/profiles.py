@@ -281,6 +281,8 @@ def _same_kind(spec: Parameter, value: object) -> bool:
 
 
 def _loosens(spec: Parameter, profile_value: object, requested: object) -> bool:
+    if spec.stricter is None:
+        return requested != profile_value
     if profile_value is None:
         # An optional limit the profile leaves unset: any value adds a rule, which tightens.
         return False

@@ -11,8 +11,10 @@ Rules beyond single fields (decided here, documented for clients):
 * unknown fields are refused at every level (marshmallow ``RAISE``);
 * ``null`` is accepted only for optional fields without a default
   (``target_orbit``, ``max_burn_s``, ``min_burn_s``, ``drag_area_m2``,
-  ``drag_coefficient``, ``protected_axis_offset_deg``, ``target_orbit.inclination_deg``)
-  and means "not given";
+  ``drag_coefficient``, ``protected_axis_offset_deg``, ``srp_area_m2``,
+  ``reflectivity_coefficient``, ``target_orbit.inclination_deg``) and means "not given";
+* ``end_of_life`` is a JSON boolean only (``true``/``false``, never ``"yes"``, ``1`` or
+  ``null``); it marks the plan as an end-of-life disposal for the ``disposal`` check;
 * ``initial_state`` holds exactly one form: Cartesian (``frame``, ``position_km``,
   ``velocity_km_s``) or ``elements``;
 * elements: e != 1 (a semi-major axis cannot describe a parabola), a > 0 when
@@ -34,7 +36,7 @@ import functools
 import math
 from collections.abc import Mapping
 
-from marshmallow import RAISE, Schema, ValidationError, post_load, validates_schema
+from marshmallow import RAISE, Schema, ValidationError, fields, post_load, validates_schema
 
 from service.engine.errors import PlanInvalid
 from service.engine.plan import (
@@ -45,6 +47,7 @@ from service.engine.plan import (
     MAX_GROUND_STATIONS,
     MIN_ELEVATION_RANGE_DEG,
     PROTECTED_AXIS_RANGE_DEG,
+    REFLECTIVITY_COEFFICIENT_RANGE,
     STATION_ID_MAX_CHARS,
     CartesianState,
     ElementsState,
@@ -64,6 +67,7 @@ from service.schemas.fields import (
     StrictNested,
     StrictString,
     Vector3,
+    _Named,
     describe_value,
     show_number,
 )
@@ -93,8 +97,21 @@ class StrictSchema(Schema):
         }
 
 
-def _optional_number(**limits) -> FiniteNumber:
-    return FiniteNumber(allow_none=True, load_default=None, **limits)
+def _optional_number(description: str | None = None, **limits) -> FiniteNumber:
+    metadata = {"description": description} if description else {}
+    return FiniteNumber(allow_none=True, load_default=None, metadata=metadata, **limits)
+
+
+class _StrictBoolean(_Named, fields.Boolean):
+    """A JSON ``true`` or ``false`` only: never ``"true"``, ``1`` or ``"yes"``."""
+
+    def describe(self) -> str:
+        return "true or false"
+
+    def _deserialize(self, value, attr, data, **kwargs) -> bool:
+        if not isinstance(value, bool):
+            raise self.wrong(value)
+        return value
 
 
 def _ids(items: object) -> list[tuple[int, str]]:
@@ -162,6 +179,20 @@ class SpacecraftSchema(StrictSchema):
     drag_coefficient = _optional_number(gt=0)
     protected_axis_offset_deg = _optional_number(
         ge=PROTECTED_AXIS_RANGE_DEG[0], le=PROTECTED_AXIS_RANGE_DEG[1]
+    )
+    srp_area_m2 = _optional_number(
+        "area exposed to sunlight for solar radiation pressure, m^2 (attitude-averaged); with "
+        "reflectivity_coefficient and the mass after the last burn it gives the IADC "
+        "geostationary graveyard minimum 235 km + 1000 CR A/m (IADC-02-01 section 5.3.1), "
+        "which the disposal check needs for a spacecraft retired from the geostationary region",
+        gt=0,
+    )
+    reflectivity_coefficient = _optional_number(
+        "solar radiation pressure reflectivity coefficient CR: 1 for a body that absorbs all "
+        "sunlight, 2 for one that reflects it all straight back (typically 1.2 to 1.5); used "
+        "with srp_area_m2 by the disposal check's geostationary graveyard rule",
+        ge=REFLECTIVITY_COEFFICIENT_RANGE[0],
+        le=REFLECTIVITY_COEFFICIENT_RANGE[1],
     )
 
     @validates_schema(pass_original=True, skip_on_field_errors=False)
@@ -340,6 +371,17 @@ class PlanSchema(StrictSchema):
         load_default=list,
         max_items=MAX_GROUND_STATIONS,
         noun="ground stations",
+    )
+    end_of_life = _StrictBoolean(
+        load_default=False,
+        metadata={
+            "description": "true marks the plan as an end-of-life disposal: the disposal check "
+            "then judges the final orbit against the IADC debris-mitigation guidelines "
+            "(IADC-02-01): a geostationary spacecraft's graveyard perigee (needs "
+            "spacecraft.srp_area_m2 and reflectivity_coefficient), or in low Earth orbit the "
+            "estimated orbital lifetime (needs spacecraft.drag_area_m2 and drag_coefficient) or a "
+            "controlled re-entry. false (the default): the check is skipped"
+        },
     )
 
     @validates_schema(pass_original=True, skip_on_field_errors=False)

@@ -6,6 +6,9 @@ from importlib.resources import files
 from service.engine import build_engine
 
 BUILT_IN = {
+    "disposal",
+    "target-orbit",
+    "transfer-efficiency",
     "burn-duration",
     "burn-sequence",
     "eclipse-at-burn",

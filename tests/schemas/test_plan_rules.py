@@ -107,7 +107,7 @@ CASES = [
     # unknown fields, at every level
     ("unknown-top", change("colour", "red"), "colour", "unknown field 'colour'"),
     ("unknown-state", change("initial_state.colour", 1), "initial_state.colour", "unknown field"),
-    ("unknown-spacecraft", change("spacecraft.srp_area_m2", 1.0), "spacecraft.srp_area_m2",
+    ("unknown-spacecraft", change("spacecraft.solar_area_m2", 1.0), "spacecraft.solar_area_m2",
      "unknown field"),
     ("unknown-engine", change("spacecraft.engines.1.colour", 1), "spacecraft.engines.1.colour",
      "unknown field"),
@@ -296,6 +296,23 @@ CASES = [
      "spacecraft.protected_axis_offset_deg", "got -0.5"),
     ("protected-axis-string", change("spacecraft.protected_axis_offset_deg", "45"),
      "spacecraft.protected_axis_offset_deg", "got a string ('45')"),
+    # end-of-life disposal: the plan flag and the spacecraft's radiation-pressure data
+    ("end-of-life-string", change("end_of_life", "yes"), "end_of_life",
+     "must be true or false; got a string ('yes')"),
+    ("end-of-life-number", change("end_of_life", 1), "end_of_life", "true or false; got 1"),
+    ("end-of-life-null", change("end_of_life", None), "end_of_life", "default false"),
+    ("srp-area-zero", change("spacecraft.srp_area_m2", 0), "spacecraft.srp_area_m2",
+     "greater than 0; got 0"),
+    ("srp-area-string", change("spacecraft.srp_area_m2", "24"), "spacecraft.srp_area_m2",
+     "got a string ('24')"),
+    ("srp-area-nan", change("spacecraft.srp_area_m2", math.nan), "spacecraft.srp_area_m2",
+     "got NaN"),
+    ("reflectivity-low", change("spacecraft.reflectivity_coefficient", 0.9),
+     "spacecraft.reflectivity_coefficient", "from 1 to 2 inclusive; got 0.9"),
+    ("reflectivity-high", change("spacecraft.reflectivity_coefficient", 2.1),
+     "spacecraft.reflectivity_coefficient", "from 1 to 2 inclusive; got 2.1"),
+    ("reflectivity-bool", change("spacecraft.reflectivity_coefficient", True),
+     "spacecraft.reflectivity_coefficient", "got a boolean (true)"),
     # ground stations
     ("stations-not-list", change("ground_stations", {"id": "north-1"}), "ground_stations",
      "must be a list"),
@@ -428,6 +445,13 @@ def test_target_orbit_defaults() -> None:
         ("spacecraft.engines.0.min_burn_s", None),
         ("spacecraft.drag_area_m2", None),
         ("spacecraft.drag_coefficient", None),
+        ("spacecraft.srp_area_m2", None),
+        ("spacecraft.reflectivity_coefficient", None),
+        ("spacecraft.reflectivity_coefficient", 1),
+        ("spacecraft.reflectivity_coefficient", 2.0),
+        ("spacecraft.srp_area_m2", 1e-6),
+        ("end_of_life", False),
+        ("end_of_life", True),
         ("target_orbit", None),
         ("target_orbit.inclination_deg", None),
         ("spacecraft.propellant_kg", 0),
@@ -482,6 +506,23 @@ def test_ground_stations_load_into_typed_objects_with_the_default_mask() -> None
     assert first == GroundStation("s-0", 67.86, 20.96, 0.4, 5.0)
     assert load_plan(valid_plan()).ground_stations == ()
     assert load_plan(valid_plan()).spacecraft.protected_axis_offset_deg is None
+
+
+def test_disposal_fields_load_into_typed_objects_and_default_to_off() -> None:
+    plan = load_plan(valid_plan())
+    assert plan.end_of_life is False
+    assert plan.spacecraft.srp_area_m2 is None
+    assert plan.spacecraft.reflectivity_coefficient is None
+    data = valid_plan()
+    data["end_of_life"] = True
+    data["spacecraft"]["srp_area_m2"] = 24
+    data["spacecraft"]["reflectivity_coefficient"] = 1.2
+    plan = load_plan(data)
+    assert plan.end_of_life is True
+    assert plan.spacecraft.srp_area_m2 == 24.0
+    assert isinstance(plan.spacecraft.srp_area_m2, float)
+    assert plan.spacecraft.reflectivity_coefficient == 1.2
+    assert plan.digest == plan_digest(data)
 
 
 @pytest.mark.parametrize("bad", [math.nan, math.inf, -math.inf], ids=["nan", "inf", "-inf"])
