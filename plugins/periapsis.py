@@ -90,6 +90,18 @@ def _lowest_ahead_km(arc: Arc, body: Body) -> tuple[str, float]:
     return "lowest altitude ahead (outbound from the arc's start)", start_km
 
 
+def effective_floor_km(body: Body, params: Mapping[str, object]) -> float | None:
+    """The floor this check judges against, from its resolved ``params``; None when unset.
+
+    The higher of the body's floor (``<body>_min_altitude_km``) and the plan's own
+    ``min_altitude_km``. The execution-dispersion check judges against the same floor.
+    """
+    body_floor = params.get(f"{body.name}_min_altitude_km")
+    plan_floor = params.get("min_altitude_km")
+    floors = [float(f) for f in (body_floor, plan_floor) if f is not None]
+    return max(floors) if floors else None
+
+
 class PeriapsisFloor(Check):
     id = "periapsis-floor"
     version = "1"
@@ -134,16 +146,13 @@ class PeriapsisFloor(Check):
 
     def evaluate(self, context: Context, params: Mapping[str, object]) -> Iterator[Finding]:
         body = context.body
-        body_floor = params.get(f"{body.name}_min_altitude_km")
-        plan_floor = params.get("min_altitude_km")
-        floors = [float(f) for f in (body_floor, plan_floor) if f is not None]
-        if not floors:
+        floor_km = effective_floor_km(body, params)
+        if floor_km is None:
             yield Finding(
                 Status.SKIPPED,
                 f"no periapsis floor is set for {body.name!r}: set min_altitude_km",
             )
             return
-        floor_km = max(floors)
         margin_km = float(params.get(f"{body.name}_margin_km") or 0.0)
         allow_escape = bool(params["allow_escape"])
         for arc in context.trajectory.arcs:

@@ -15,8 +15,9 @@ context only gains attributes.
 from __future__ import annotations
 
 import enum
+import types
 from collections.abc import Iterable, Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Literal
 
 import pluggy
@@ -26,7 +27,9 @@ from service.dynamics.trajectory import Arc, BurnResult, Trajectory
 from service.engine.hookspecs import PROJECT
 from service.engine.plan import GroundStation, Plan
 
-API_VERSION = "1.1"  # 1.1 added Parameter.choices, Context.ground_stations, GroundStation
+# 1.1 added Parameter.choices, Context.ground_stations, GroundStation;
+# 1.2 added Parameter.minimum and Parameter.maximum, Context.thresholds and Context.seed.
+API_VERSION = "1.2"
 
 hookimpl = pluggy.HookimplMarker(PROJECT)
 
@@ -84,6 +87,11 @@ class Parameter:
     ``choices`` lists the allowed values of a string parameter (added in 1.1,
     optional): profiles and requests that give any other value are refused
     naming the allowed ones. ``None`` means any string of the default's kind.
+
+    ``minimum`` and ``maximum`` (added in 1.2, optional, inclusive) bound a
+    numeric parameter: start-up refuses a check whose default lies outside them,
+    and profiles and requests that give a value outside them are refused naming
+    the field and the bounds. ``None`` means unbounded on that side.
     """
 
     default: float | bool | str | None
@@ -91,6 +99,8 @@ class Parameter:
     stricter: Literal["higher", "lower"] | None
     description: str
     choices: tuple[str, ...] | None = None
+    minimum: float | None = None
+    maximum: float | None = None
 
 
 @dataclass(frozen=True)
@@ -99,6 +109,13 @@ class Context:
 
     ``ground_stations`` (added in 1.1) is the network in force for this request:
     the profile's stations first, then the plan's own (ids are unique across both).
+
+    ``thresholds`` (added in 1.2) holds every enabled check's resolved thresholds
+    for this request, check id -> parameter -> value, read-only: a check that
+    builds on another's rule (a floor, a limit) reads it here. ``seed`` (added in
+    1.2) is this request's random seed, derived from the plan digest and the
+    profile digest (``request_seed``): the same request gets the same seed, so a
+    check that samples gives the same report every time.
     """
 
     plan: Plan
@@ -106,6 +123,10 @@ class Context:
     trajectory: Trajectory
     profile: str
     ground_stations: tuple[GroundStation, ...] = ()
+    thresholds: Mapping[str, Mapping[str, object]] = field(
+        default_factory=lambda: types.MappingProxyType({})
+    )
+    seed: int = 0
 
     def burn(self, maneuver_id: str) -> BurnResult:
         for burn in self.trajectory.maneuvers:

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import hashlib
 import math
+import types
 from collections.abc import Iterable, Mapping
 
 import numpy as np
@@ -12,7 +14,7 @@ from service.dynamics.elements import elements_from_semi_major_axis, elements_to
 from service.dynamics.trajectory import BurnSpec, EngineSpec, Trajectory, build_trajectory
 from service.engine.errors import EngineNotReady, PlanInvalid
 from service.engine.plan import CartesianState, GroundStation, Plan
-from service.engine.profiles import Profile, load_profiles, resolve_thresholds
+from service.engine.profiles import Profile, Thresholds, load_profiles, resolve_thresholds
 from service.engine.registry import PluginPolicy, Registry, build_registry
 from service.engine.report import build_report
 from service.engine.runner import run_checks
@@ -58,6 +60,24 @@ def fly(plan: Plan, body: Body) -> Trajectory:
         raise PlanInvalid(
             {"plan": [f"the trajectory cannot be computed from this plan: {error}"]}
         ) from error
+
+
+def request_seed(plan_digest: str, profile_digest: str) -> int:
+    """The request's random seed: the first 8 bytes (big-endian) of SHA-256 over both digests.
+
+    The digests are joined by a newline before hashing. The plan digest covers the request's
+    ``rules``, the profile digest the profile's rules, so the same request under the same
+    profile always gets the same seed, and a different plan gets an unrelated one.
+    """
+    data = f"{plan_digest}\n{profile_digest}".encode()
+    return int.from_bytes(hashlib.sha256(data).digest()[:8], "big")
+
+
+def read_only(thresholds: Thresholds) -> Mapping[str, Mapping[str, object]]:
+    """A read-only copy of resolved thresholds for the context: check id -> parameter -> value."""
+    return types.MappingProxyType(
+        {check_id: types.MappingProxyType(dict(values)) for check_id, values in thresholds.items()}
+    )
 
 
 def _station_conflicts(profile: Profile, plan: Plan) -> dict[str, list[str]]:
@@ -118,6 +138,8 @@ class Engine:
             trajectory=trajectory,
             profile=name,
             ground_stations=chosen.stations + plan.ground_stations,
+            thresholds=read_only(thresholds),
+            seed=request_seed(plan.digest, chosen.digest),
         )
         entries = [self.registry.checks[check_id] for check_id in thresholds]
         findings = run_checks(
@@ -157,6 +179,8 @@ class Engine:
                             "stricter": spec.stricter,
                             "description": spec.description,
                             "choices": None if spec.choices is None else list(spec.choices),
+                            "minimum": spec.minimum,
+                            "maximum": spec.maximum,
                         }
                         for name, spec in sorted(entry.parameters.items())
                     ],

@@ -28,6 +28,30 @@ PROTECTED_AXIS_RANGE_DEG = (0.0, 180.0)  # both ends allowed
 REFLECTIVITY_COEFFICIENT_RANGE = (1.0, 2.0)
 
 
+# An engine's own execution errors (1-sigma), each from 0 to this maximum inclusive: beyond
+# them the number is a typo, not hardware (a 50 % magnitude error, a 30 deg pointing error).
+EXECUTION_ERROR_MAXIMA = {
+    "magnitude_fraction_1sigma": 0.5,
+    "magnitude_fixed_m_s_1sigma": 100.0,
+    "pointing_1sigma_deg": 30.0,
+    "timing_1sigma_s": 3600.0,
+}
+
+
+@dataclass(frozen=True)
+class ExecutionErrors:
+    """An engine's 1-sigma execution errors as the plan gives them; ``None``: the profile's.
+
+    Used by the execution-dispersion check in place of the profile's error model for
+    this engine's burns, field by field.
+    """
+
+    magnitude_fraction_1sigma: float | None = None
+    magnitude_fixed_m_s_1sigma: float | None = None
+    pointing_1sigma_deg: float | None = None
+    timing_1sigma_s: float | None = None
+
+
 @dataclass(frozen=True)
 class Engine:
     id: str
@@ -35,6 +59,7 @@ class Engine:
     isp_s: float
     max_burn_s: float | None = None
     min_burn_s: float | None = None
+    execution_errors: ExecutionErrors | None = None
 
 
 @dataclass(frozen=True)

@@ -2,9 +2,9 @@
 
 Every fault becomes a problem naming the profile's file and the key path
 (``thresholds.periapsis-floor.earth_min_altitude_km``): unknown keys, checks and
-parameters, a unit that differs from the check's, a value of the wrong kind or
-not finite, a missing name or description. ``service.engine.profiles`` builds
-the ``Profile`` from what this reads.
+parameters, a unit that differs from the check's, a value of the wrong kind, not
+finite or outside the parameter's declared bounds, a missing name or description.
+``service.engine.profiles`` builds the ``Profile`` from what this reads.
 """
 
 from __future__ import annotations
@@ -22,7 +22,7 @@ from service.engine.plan import (
     STATION_ID_MAX_CHARS,
     GroundStation,
 )
-from service.engine.registry import Registry
+from service.engine.registry import Registry, bounds_text
 from service.plugin_api import Parameter
 
 Thresholds = dict[str, dict[str, object]]
@@ -91,11 +91,24 @@ def choices_fault(spec: Parameter, value: object) -> str | None:
     return f"{_shown(value)} is not an allowed value; allowed: {allowed}"
 
 
+def bounds_fault(spec: Parameter, value: object) -> str | None:
+    """None when ``value`` lies within the parameter's ``minimum``/``maximum``, else the refusal.
+
+    Only numbers are judged (their kind is checked first, elsewhere).
+    """
+    if isinstance(value, bool) or not isinstance(value, int | float):
+        return None
+    low, high = spec.minimum, spec.maximum
+    if (low is not None and value < low) or (high is not None and value > high):
+        return f"must be {bounds_text(spec)}, not {_shown(value)}"
+    return None
+
+
 def _coerce(spec: Parameter, value: object) -> tuple[object, str | None]:
     """The value in the parameter's own type, or what is wrong with it."""
     value, fault = _coerce_kind(spec, value)
     if fault is None:
-        fault = choices_fault(spec, value)
+        fault = choices_fault(spec, value) or bounds_fault(spec, value)
     return (None, fault) if fault else (value, None)
 
 

@@ -3,7 +3,9 @@ and how a request may change them.
 
 A request's ``rules`` may only tighten the profile's thresholds unless the
 profile sets ``allow_loosening``; a loosening that is not allowed is refused
-with the parameter, the profile value and the requested value named.
+with the parameter, the profile value and the requested value named. A value
+outside the parameter's declared ``minimum``/``maximum`` is refused whatever the
+direction (tightening included), naming the bounds.
 
 Profiles are TOML files, the built-in ``default_profile.toml`` and a site's
 own, read by one loader and checked against the parameters the installed
@@ -43,7 +45,13 @@ from pathlib import Path
 
 from service.engine.errors import PlanInvalid
 from service.engine.plan import GroundStation, plan_digest
-from service.engine.profile_validation import ProfileError, Reader, choices_fault, is_number
+from service.engine.profile_validation import (
+    ProfileError,
+    Reader,
+    bounds_fault,
+    choices_fault,
+    is_number,
+)
 from service.engine.registry import Registry
 from service.plugin_api import Parameter
 
@@ -326,7 +334,7 @@ def resolve_thresholds(
             if not _same_kind(spec, requested):
                 errors[path] = [f"must be of the same kind as the default {spec.default!r}"]
                 continue
-            fault = choices_fault(spec, requested)
+            fault = choices_fault(spec, requested) or bounds_fault(spec, requested)
             if fault:
                 errors[path] = [f"{name} {fault}"]
                 continue

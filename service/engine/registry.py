@@ -8,6 +8,7 @@ plugin is named in the start-up problems instead of hiding the others.
 
 from __future__ import annotations
 
+import math
 import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
@@ -99,6 +100,49 @@ def _check_choices(name: str, spec: Parameter) -> None:
         raise TypeError(f"parameter {name!r}: default {spec.default!r} is not one of its choices")
 
 
+def _check_bounds(name: str, spec: Parameter) -> None:
+    """``minimum``/``maximum``, when given: finite numbers, in order, on a numeric parameter
+    whose default (when it has one) lies between them."""
+    low, high = getattr(spec, "minimum", None), getattr(spec, "maximum", None)
+    if low is None and high is None:
+        return
+    for label, bound in (("minimum", low), ("maximum", high)):
+        if bound is not None and (
+            isinstance(bound, bool)
+            or not isinstance(bound, int | float)
+            or not math.isfinite(bound)
+        ):
+            raise TypeError(f"parameter {name!r}: {label} must be a finite number, not {bound!r}")
+    numeric = (isinstance(spec.default, int | float) and not isinstance(spec.default, bool)) or (
+        spec.default is None and spec.stricter is not None
+    )
+    if not numeric:
+        raise TypeError(
+            f"parameter {name!r}: minimum and maximum apply to numbers only, not to a default "
+            f"of {spec.default!r}"
+        )
+    if low is not None and high is not None and low > high:
+        raise TypeError(f"parameter {name!r}: minimum {low!r} exceeds maximum {high!r}")
+    if spec.default is None:
+        return
+    if (low is not None and spec.default < low) or (high is not None and spec.default > high):
+        raise TypeError(
+            f"parameter {name!r}: default {spec.default!r} is outside its bounds "
+            f"({bounds_text(spec)})"
+        )
+
+
+def bounds_text(spec: Parameter) -> str:
+    """The bounds as a message gives them: ``from 100 to 100000 count``, ``at least 0 km``."""
+    low, high = spec.minimum, spec.maximum
+    unit = f" {spec.unit}" if spec.unit else ""
+    if low is not None and high is not None:
+        return f"from {low!r} to {high!r}{unit}"
+    if low is not None:
+        return f"at least {low!r}{unit}"
+    return f"at most {high!r}{unit}"
+
+
 def _normalise_parameters(check: Check) -> dict[str, Parameter]:
     declared = getattr(check, "parameters", {}) or {}
     if not isinstance(declared, Mapping):
@@ -107,6 +151,7 @@ def _normalise_parameters(check: Check) -> dict[str, Parameter]:
     for name, spec in declared.items():
         if isinstance(spec, Parameter):
             _check_choices(str(name), spec)
+            _check_bounds(str(name), spec)
             parameters[str(name)] = spec
         elif isinstance(spec, bool | int | float | str):
             # The contract allows a bare default; without a direction any change loosens.

@@ -306,11 +306,20 @@ def to_junit(report: Report) -> str:
 
 
 def _described(parameter: Mapping[str, Any]) -> str:
-    """The description, with the allowed values of a choice."""
+    """The description, with the allowed values of a choice and the bounds of a number."""
     text = str(parameter.get("description") or "")
     choices = parameter.get("choices")
+    low, high = parameter.get("minimum"), parameter.get("maximum")
+    allowed = ""
     if choices:
         allowed = "one of " + ", ".join(str(choice) for choice in choices)
+    elif low is not None and high is not None:
+        allowed = f"from {low} to {high}"
+    elif low is not None:
+        allowed = f"at least {low}"
+    elif high is not None:
+        allowed = f"at most {high}"
+    if allowed:
         text = f"{text} ({allowed})" if text else allowed
     return text
 

@@ -67,6 +67,14 @@ _CONIC_RULES = [
 
 # name -> (schema class, extra JSON Schema keywords). Referenced schemas come first.
 PLAN_COMPONENTS: dict[str, tuple[type[Schema], dict]] = {
+    "ExecutionErrors": (
+        plan_schemas.ExecutionErrorsSchema,
+        {
+            "description": "An engine's own 1-sigma execution errors (Gaussian), used by the "
+            "execution-dispersion check for this engine's burns in place of the profile's "
+            "error model; a field left out or null keeps the profile's value."
+        },
+    ),
     "Engine": (
         plan_schemas.EngineSchema,
         {"description": "An engine. The service also requires min_burn_s <= max_burn_s."},
@@ -190,6 +198,16 @@ _CHECK = {
                         "type": ["array", "null"],
                         "items": {"type": "string"},
                         "description": "the allowed values of a string parameter (null: any)",
+                    },
+                    "minimum": {
+                        "type": ["number", "null"],
+                        "description": "the smallest value a profile or request may give "
+                        "(inclusive; null: unbounded)",
+                    },
+                    "maximum": {
+                        "type": ["number", "null"],
+                        "description": "the largest value a profile or request may give "
+                        "(inclusive; null: unbounded)",
                     },
                 },
             },

@@ -10,7 +10,8 @@ Rules beyond single fields (decided here, documented for clients):
 
 * unknown fields are refused at every level (marshmallow ``RAISE``);
 * ``null`` is accepted only for optional fields without a default
-  (``target_orbit``, ``max_burn_s``, ``min_burn_s``, ``drag_area_m2``,
+  (``target_orbit``, ``max_burn_s``, ``min_burn_s``, ``execution_errors`` and each of its
+  fields, ``drag_area_m2``,
   ``drag_coefficient``, ``protected_axis_offset_deg``, ``srp_area_m2``,
   ``reflectivity_coefficient``, ``target_orbit.inclination_deg``) and means "not given";
 * ``end_of_life`` is a JSON boolean only (``true``/``false``, never ``"yes"``, ``1`` or
@@ -21,6 +22,9 @@ Rules beyond single fields (decided here, documented for clients):
   e < 1, a < 0 when e > 1, and for e > 1 the true anomaly strictly inside the
   asymptotes (1 + e cos nu > 0, i.e. |nu| < arccos(-1/e) after wrapping to
   [-180, 180));
+* ``spacecraft.engines[].execution_errors``: the engine's own 1-sigma errors, each
+  optional, finite and from 0 up to a maximum (magnitude fraction 0.5, fixed part
+  100 m/s, pointing 30 deg, timing 3600 s);
 * engine ids unique; maneuver ids unique (the error is on the later duplicate);
   each maneuver names an engine of the spacecraft; ``min_burn_s <= max_burn_s``;
   ``target_orbit.periapsis_altitude_km <= apoapsis_altitude_km``;
@@ -41,6 +45,7 @@ from marshmallow import RAISE, Schema, ValidationError, fields, post_load, valid
 from service.engine.errors import PlanInvalid
 from service.engine.plan import (
     DEFAULT_MIN_ELEVATION_DEG,
+    EXECUTION_ERROR_MAXIMA,
     HEIGHT_RANGE_KM,
     LATITUDE_RANGE_DEG,
     LONGITUDE_RANGE_DEG,
@@ -52,6 +57,7 @@ from service.engine.plan import (
     CartesianState,
     ElementsState,
     Engine,
+    ExecutionErrors,
     GroundStation,
     Maneuver,
     Plan,
@@ -141,12 +147,61 @@ def _duplicates(items: object, noun: str, path: str) -> dict[int, dict[str, list
     return errors
 
 
+_EXECUTION_ERROR_HELP = {
+    "magnitude_fraction_1sigma": "1-sigma proportional error of the delivered delta-v "
+    "magnitude, as a fraction (0.01 = 1 %)",
+    "magnitude_fixed_m_s_1sigma": "1-sigma fixed error of the delivered delta-v magnitude, m/s",
+    "pointing_1sigma_deg": "1-sigma pointing error of the thrust axis, deg (per axis, "
+    "perpendicular to the planned direction)",
+    "timing_1sigma_s": "1-sigma ignition timing error, s",
+}
+
+
+class ExecutionErrorsSchema(StrictSchema):
+    """An engine's own 1-sigma execution errors; each field optional, the profile's otherwise."""
+
+    magnitude_fraction_1sigma = _optional_number(
+        _EXECUTION_ERROR_HELP["magnitude_fraction_1sigma"],
+        ge=0,
+        le=EXECUTION_ERROR_MAXIMA["magnitude_fraction_1sigma"],
+    )
+    magnitude_fixed_m_s_1sigma = _optional_number(
+        _EXECUTION_ERROR_HELP["magnitude_fixed_m_s_1sigma"],
+        ge=0,
+        le=EXECUTION_ERROR_MAXIMA["magnitude_fixed_m_s_1sigma"],
+    )
+    pointing_1sigma_deg = _optional_number(
+        _EXECUTION_ERROR_HELP["pointing_1sigma_deg"],
+        ge=0,
+        le=EXECUTION_ERROR_MAXIMA["pointing_1sigma_deg"],
+    )
+    timing_1sigma_s = _optional_number(
+        _EXECUTION_ERROR_HELP["timing_1sigma_s"],
+        ge=0,
+        le=EXECUTION_ERROR_MAXIMA["timing_1sigma_s"],
+    )
+
+    @post_load
+    def _make(self, data: dict, **kwargs) -> ExecutionErrors:
+        return ExecutionErrors(**data)
+
+
 class EngineSchema(StrictSchema):
     id = StrictString(required=True, min_length=1, max_length=64, allow_blank=False)
     thrust_n = FiniteNumber(required=True, gt=0)
     isp_s = FiniteNumber(required=True, gt=0)
     max_burn_s = _optional_number(gt=0)
     min_burn_s = _optional_number(ge=0)
+    execution_errors = StrictNested(
+        ExecutionErrorsSchema,
+        allow_none=True,
+        load_default=None,
+        metadata={
+            "description": "this engine's own 1-sigma execution errors, used by the "
+            "execution-dispersion check for its burns in place of the profile's; each field "
+            "optional (the profile's value where left out)"
+        },
+    )
 
     @validates_schema(skip_on_field_errors=False)
     def _on_time_limits(self, data: dict, **kwargs) -> None:

@@ -12,6 +12,7 @@ BUILT_IN = {
     "burn-duration",
     "burn-sequence",
     "eclipse-at-burn",
+    "execution-dispersion",
     "ground-contact",
     "periapsis-floor",
     "propellant-budget",

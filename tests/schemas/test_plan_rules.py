@@ -8,7 +8,15 @@ import numpy as np
 import pytest
 
 from service.engine.errors import PlanInvalid
-from service.engine.plan import CartesianState, ElementsState, GroundStation, Plan, plan_digest
+from service.engine.plan import (
+    EXECUTION_ERROR_MAXIMA,
+    CartesianState,
+    ElementsState,
+    ExecutionErrors,
+    GroundStation,
+    Plan,
+    plan_digest,
+)
 from service.schemas import load_plan
 from tests.plans import DELETE, elements_plan, valid_plan, with_value
 
@@ -313,6 +321,48 @@ CASES = [
      "spacecraft.reflectivity_coefficient", "from 1 to 2 inclusive; got 2.1"),
     ("reflectivity-bool", change("spacecraft.reflectivity_coefficient", True),
      "spacecraft.reflectivity_coefficient", "got a boolean (true)"),
+    # an engine's own execution errors (the execution-dispersion check's model)
+    ("exec-errors-not-object", change("spacecraft.engines.0.execution_errors", 0.01),
+     "spacecraft.engines.0.execution_errors", "execution_errors must be a JSON object; got 0.01"),
+    ("exec-errors-unknown", change("spacecraft.engines.0.execution_errors",
+                                   {"magnitude_pct_1sigma": 1.0}),
+     "spacecraft.engines.0.execution_errors.magnitude_pct_1sigma",
+     "unknown field 'magnitude_pct_1sigma'"),
+    ("exec-fraction-negative",
+     change("spacecraft.engines.0.execution_errors", {"magnitude_fraction_1sigma": -0.01}),
+     "spacecraft.engines.0.execution_errors.magnitude_fraction_1sigma",
+     "from 0 to 0.5 inclusive; got -0.01"),
+    ("exec-fraction-high",
+     change("spacecraft.engines.1.execution_errors", {"magnitude_fraction_1sigma": 0.51}),
+     "spacecraft.engines.1.execution_errors.magnitude_fraction_1sigma",
+     "from 0 to 0.5 inclusive; got 0.51"),
+    ("exec-fraction-string",
+     change("spacecraft.engines.0.execution_errors", {"magnitude_fraction_1sigma": "1%"}),
+     "spacecraft.engines.0.execution_errors.magnitude_fraction_1sigma",
+     "got a string ('1%')"),
+    ("exec-fixed-high",
+     change("spacecraft.engines.0.execution_errors", {"magnitude_fixed_m_s_1sigma": 100.5}),
+     "spacecraft.engines.0.execution_errors.magnitude_fixed_m_s_1sigma",
+     "from 0 to 100 inclusive; got 100.5"),
+    ("exec-fixed-nan",
+     change("spacecraft.engines.0.execution_errors", {"magnitude_fixed_m_s_1sigma": math.nan}),
+     "spacecraft.engines.0.execution_errors.magnitude_fixed_m_s_1sigma", "got NaN"),
+    ("exec-pointing-high",
+     change("spacecraft.engines.0.execution_errors", {"pointing_1sigma_deg": 30.01}),
+     "spacecraft.engines.0.execution_errors.pointing_1sigma_deg",
+     "from 0 to 30 inclusive; got 30.01"),
+    ("exec-pointing-inf",
+     change("spacecraft.engines.0.execution_errors", {"pointing_1sigma_deg": math.inf}),
+     "spacecraft.engines.0.execution_errors.pointing_1sigma_deg", "got Infinity"),
+    ("exec-timing-negative",
+     change("spacecraft.engines.0.execution_errors", {"timing_1sigma_s": -1}),
+     "spacecraft.engines.0.execution_errors.timing_1sigma_s", "from 0 to 3600 inclusive; got -1"),
+    ("exec-timing-high",
+     change("spacecraft.engines.0.execution_errors", {"timing_1sigma_s": 3601}),
+     "spacecraft.engines.0.execution_errors.timing_1sigma_s", "got 3601"),
+    ("exec-timing-bool",
+     change("spacecraft.engines.0.execution_errors", {"timing_1sigma_s": True}),
+     "spacecraft.engines.0.execution_errors.timing_1sigma_s", "got a boolean (true)"),
     # ground stations
     ("stations-not-list", change("ground_stations", {"id": "north-1"}), "ground_stations",
      "must be a list"),
@@ -497,6 +547,40 @@ def test_ground_station_edges_are_accepted(field: str, value: object) -> None:
 def test_protected_axis_offset_edges_are_accepted(value: object) -> None:
     plan = load_plan(with_value(valid_plan(), "spacecraft.protected_axis_offset_deg", value))
     assert plan.spacecraft.protected_axis_offset_deg == value
+
+
+@pytest.mark.parametrize(
+    "errors",
+    [
+        None,
+        {},
+        {"magnitude_fraction_1sigma": 0.0},
+        {"magnitude_fraction_1sigma": 0.5, "magnitude_fixed_m_s_1sigma": 100},
+        {"pointing_1sigma_deg": 30.0, "timing_1sigma_s": 3600.0},
+        {"magnitude_fraction_1sigma": None, "timing_1sigma_s": 0},
+    ],
+)
+def test_execution_error_edges_are_accepted(errors: object) -> None:
+    plan = load_plan(with_value(valid_plan(), "spacecraft.engines.0.execution_errors", errors))
+    own = plan.spacecraft.engines[0].execution_errors
+    if errors is None:
+        assert own is None
+        return
+    for field in EXECUTION_ERROR_MAXIMA:
+        assert getattr(own, field) == errors.get(field)  # type: ignore[union-attr]
+
+
+def test_execution_errors_load_into_typed_objects_and_default_to_none() -> None:
+    data = valid_plan()
+    data["spacecraft"]["engines"][1]["execution_errors"] = {
+        "magnitude_fraction_1sigma": 0.02,
+        "pointing_1sigma_deg": 1.5,
+    }
+    plan = load_plan(data)
+    assert plan.spacecraft.engines[0].execution_errors is None
+    assert plan.spacecraft.engine("rcs").execution_errors == ExecutionErrors(
+        magnitude_fraction_1sigma=0.02, pointing_1sigma_deg=1.5
+    )
 
 
 def test_ground_stations_load_into_typed_objects_with_the_default_mask() -> None:
