@@ -23,7 +23,12 @@ from collections.abc import Iterator, Mapping
 import numpy as np
 
 from plugins._sun_window import sun_model_gap
-from service.dynamics.illumination import next_shadow_change, sunlit_fraction_on
+from service.dynamics.illumination import (
+    ShadowSamples,
+    next_shadow_change,
+    shadow_survey,
+    sunlit_fraction_on,
+)
 from service.dynamics.shadow import shadow_state
 from service.plugin_api import BurnResult, Check, Context, Finding, Parameter, Status, hookimpl
 
@@ -92,13 +97,34 @@ class EclipseAtBurn(Check):
         if gap:
             yield Finding(Status.SKIPPED, gap)
             return
-        fractions = np.atleast_1d(sunlit_fraction_on(trajectory, epochs)).reshape(len(burns), 3)
+        fractions, sampled = _survey(context, epochs, burns, horizons_s)
+        fractions = fractions.reshape(len(burns), 3)
         states = np.atleast_1d(shadow_state(fractions.reshape(-1))).reshape(len(burns), 3)
         known: tuple[np.datetime64, str, str] | None = None  # (epoch, from state, to state)
         for index, burn in enumerate(burns):
             shown = [str(state) for state in states[index]]
-            change, known = _next_change(context, burn, horizons_s[index], shown[0], known)
+            samples = None if sampled is None else sampled[index]
+            change, known = _next_change(context, burn, horizons_s[index], shown[0], known, samples)
             yield _judge(burn, shown, fractions[index], rule, penumbra, change)
+
+
+def _survey(
+    context: Context, epochs: np.ndarray, burns: tuple[BurnResult, ...], horizons_s: list[float]
+) -> tuple[np.ndarray, list[ShadowSamples] | None]:
+    """The sunlit fraction at every burn's three instants and every burn's sampling pass for
+    the next shadow change, made together in one call.
+
+    When that cannot be done, the fractions come on their own (raising what they always
+    raised) and each search samples for itself and says what failed.
+    """
+    trajectory = context.trajectory
+    try:
+        survey = shadow_survey(trajectory, epochs, [b.ignition for b in burns], horizons_s)
+    except (ValueError, ArithmeticError, RuntimeError):
+        survey = None
+    if survey is not None:
+        return survey
+    return np.atleast_1d(sunlit_fraction_on(trajectory, epochs)), None
 
 
 def _horizon_s(context: Context, index: int) -> float:
@@ -113,6 +139,7 @@ def _next_change(
     horizon_s: float,
     state: str,
     known: tuple[np.datetime64, str, str] | None,
+    samples: ShadowSamples | None = None,
 ) -> tuple[str, tuple[np.datetime64, str, str] | None]:
     """The time from ignition to the next shadow entry or exit within ``horizon_s``, said.
 
@@ -125,7 +152,7 @@ def _next_change(
         seconds = float((known[0] - burn.ignition) / np.timedelta64(1, "ms")) / 1000.0
         found: tuple[float, str] | None = (seconds, known[2]) if seconds <= horizon_s else None
     else:
-        found = next_shadow_change(context.trajectory, burn.ignition, horizon_s)
+        found = next_shadow_change(context.trajectory, burn.ignition, horizon_s, samples=samples)
         if found is not None:
             at = burn.ignition + np.timedelta64(round(float(found[0]) * 1000.0), "ms")
             known = (at, state, str(found[1]))

@@ -31,11 +31,16 @@ near periapsis, which is a limit of the mean anomaly itself, not of the solver.)
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
 from service.dynamics.inputs import finite, float_or_array
 from service.dynamics.kepler_equation import (
+    KEPLER_MAX_ITERATIONS,
+    KEPLER_STEP_TOLERANCE_RAD,
+    TWO_PI,
     FloatOrArray,
     eccentric_to_mean_anomaly,
     eccentricity_array,
@@ -150,6 +155,89 @@ def parabolic_to_true_anomaly(parabolic_anomaly: ArrayLike) -> FloatOrArray:
     return float_or_array(2.0 * np.arctan(b))
 
 
+# --- one elliptic sample in plain Python arithmetic ------------------------------------------
+#
+# Trajectory building and the checks ask about one orbit at a time, where numpy's per-call
+# cost is most of the work. These follow the array code above and in ``kepler_equation``
+# step for step (same formulas, same order of operations, numpy's own arctan2, cbrt and
+# scalar power, scipy's scalar Newton-Halley rules), so they give the same floats; any input
+# other than one finite elliptic sample goes to the array code.
+
+
+def _one(value) -> float | None:
+    """``value`` as a Python float when it is one finite float64 number, else None."""
+    if type(value) is float:
+        number = value
+    elif isinstance(value, np.float64) or (
+        isinstance(value, np.ndarray) and value.shape == () and value.dtype == np.float64
+    ):
+        number = float(value)
+    else:
+        return None
+    return number if math.isfinite(number) else None
+
+
+def _wrap_revolutions_one(angle_rad: float) -> tuple[float, float]:
+    turns = float(round(angle_rad / TWO_PI))  # half to even, as np.round
+    return angle_rad - TWO_PI * turns, TWO_PI * turns
+
+
+def _x_minus_sin_one(x: float) -> float:
+    if abs(x) < 1.0:
+        x2 = x * x
+        total = 0.0
+        for k in range(10, 0, -1):
+            total = (-1.0) ** (k + 1) / math.factorial(2 * k + 1) + x2 * total
+        return total * x * x2
+    return x - math.sin(x)
+
+
+def _true_to_mean_one(nu: float, e: float) -> float:
+    reduced, turns = _wrap_revolutions_one(nu)
+    half = 0.5 * reduced
+    eccentric = 2.0 * float(
+        np.arctan2(math.sqrt(1.0 - e) * math.sin(half), math.sqrt(1.0 + e) * math.cos(half))
+    )
+    eccentric += turns
+    return (1.0 - e) * math.sin(eccentric) + _x_minus_sin_one(eccentric)
+
+
+def _mean_to_true_one(m: float, e: float) -> float | None:
+    reduced, turns = _wrap_revolutions_one(m)
+    magnitude = abs(reduced)
+    cube_bound = float(np.cbrt(6.0 * magnitude / (1.0 - math.pi**2 / 20.0)))
+    p0 = min(min(magnitude + e, math.pi), cube_bound)
+    one_minus_e = 1.0 - e
+    for _ in range(KEPLER_MAX_ITERATIONS):
+        fval = one_minus_e * math.sin(p0) + _x_minus_sin_one(p0) - magnitude
+        if fval == 0.0:
+            break
+        half_sine = np.float64(math.sin(0.5 * p0))
+        fder = one_minus_e * math.cos(p0) + 2.0 * float(half_sine**2)  # numpy's scalar power
+        if fder == 0.0 or not math.isfinite(fval):
+            return None
+        step = fval / fder
+        adj = step * (e * math.sin(p0)) / fder / 2
+        if abs(adj) < 1:
+            step /= 1.0 - adj
+        p = p0 - step
+        if abs(p - p0) <= KEPLER_STEP_TOLERANCE_RAD:
+            p0 = p
+            break
+        p0 = p
+    else:
+        return None
+    if not math.isfinite(p0):
+        return None
+    eccentric = math.copysign(p0, reduced) + turns
+    reduced, turns = _wrap_revolutions_one(eccentric)
+    half = 0.5 * reduced
+    nu = 2.0 * float(
+        np.arctan2(math.sqrt(1.0 + e) * math.sin(half), math.sqrt(1.0 - e) * math.cos(half))
+    )
+    return nu + turns
+
+
 # --- any conic ----------------------------------------------------------------------------------
 
 
@@ -169,6 +257,9 @@ def true_to_mean_anomaly(nu_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Vallado 4th ed., section 2.2 and Algorithms 2-4; Curtis 3rd ed., sections 3.4-3.6.
     ``nu_rad`` and ``e`` broadcast; e == 1 exactly selects the parabola.
     """
+    nu_one, e_one = _one(nu_rad), _one(e)
+    if nu_one is not None and e_one is not None and 0.0 <= e_one < 1.0:
+        return _true_to_mean_one(nu_one, e_one)
     nu = finite("true anomaly nu_rad", nu_rad)
     e_array = eccentricity_array(e)
     out = _by_conic(
@@ -188,6 +279,11 @@ def mean_to_true_anomaly(m_rad: ArrayLike, e: ArrayLike) -> FloatOrArray:
     Elliptic results keep M's revolution; parabolic and hyperbolic ones lie between the
     asymptotes. Raises ValueError if Kepler's equation does not converge.
     """
+    m_one, e_one = _one(m_rad), _one(e)
+    if m_one is not None and e_one is not None and 0.0 <= e_one < 1.0:
+        nu = _mean_to_true_one(m_one, e_one)
+        if nu is not None:
+            return nu
     m = finite("mean anomaly m_rad", m_rad)
     e_array = eccentricity_array(e)
     out = _by_conic(
@@ -208,6 +304,18 @@ def mean_motion_rad_s(p_km: ArrayLike, e: ArrayLike, mu_km3_s2: ArrayLike) -> Fl
     equation; see the module docstring). ``p_km`` semi-latus rectum > 0, ``e`` >= 0,
     ``mu_km3_s2`` > 0.
     """
+    p_one, e_one, mu_one = _one(p_km), _one(e), _one(mu_km3_s2)
+    if (
+        p_one is not None
+        and e_one is not None
+        and mu_one is not None
+        and p_one > 0.0
+        and mu_one > 0.0
+        and 0.0 <= e_one < 1.0
+    ):
+        # The array code raises a numpy scalar (not an array) to 1.5: numpy's scalar power.
+        factor = float(np.float64(abs((1.0 - e_one) * (1.0 + e_one))) ** 1.5)
+        return factor * math.sqrt(mu_one / float(np.power(p_one, 3.0)))
     p = finite("semi-latus rectum p_km", p_km)
     e_array = eccentricity_array(e)
     mu = finite("mu_km3_s2", mu_km3_s2)

@@ -24,6 +24,7 @@ from service.dynamics.anomalies import (
 )
 from service.dynamics.elements import (
     ECCENTRICITY_CIRCULAR,
+    Elements,
     periapsis_radius_km,
     state_to_elements,
 )
@@ -40,14 +41,16 @@ class LowestPoint:
     time_from_start_s: float
 
 
-def time_to_next_periapsis_s(r_km, v_km_s, mu_km3_s2: float):
+def time_to_next_periapsis_s(r_km, v_km_s, mu_km3_s2: float, *, elements: Elements | None = None):
     """Seconds from the state until the next periapsis passage; inf when it has passed for good.
 
     Time since periapsis from the mean anomaly, t = M / n, with the elliptic,
     parabolic and hyperbolic forms of Kepler's equation (Vallado 4th ed.,
-    chapter 2). Circular orbits give 0: every point is periapsis.
+    chapter 2). Circular orbits give 0: every point is periapsis. ``elements`` may give the
+    state's elements when the caller has them (``state_to_elements`` of the same state).
     """
-    elements = state_to_elements(r_km, v_km_s, mu_km3_s2)
+    if elements is None:
+        elements = state_to_elements(r_km, v_km_s, mu_km3_s2)
     e = np.asarray(elements.e, dtype=float)
     # In the circular conventions ``nu`` holds an argument of latitude or a true
     # longitude, not a true anomaly; the radius is constant there anyway.
@@ -62,15 +65,19 @@ def time_to_next_periapsis_s(r_km, v_km_s, mu_km3_s2: float):
     return float(result) if result.ndim == 0 else result
 
 
-def swept_angle_rad(r_km, v_km_s, dt_s: float, mu_km3_s2: float) -> float:
+def swept_angle_rad(
+    r_km, v_km_s, dt_s: float, mu_km3_s2: float, *, elements: Elements | None = None
+) -> float:
     """Orbit angle travelled in ``dt_s`` on the two-body orbit of the state, whole turns counted.
 
     The change of true anomaly from Kepler's equation, M = M0 + n dt (Vallado 4th ed.,
     chapter 2); elliptic mean and true anomalies keep their revolutions, so a burn that
     lasts longer than an orbit sweeps more than 2 pi. For circular orbits the argument of
     latitude (or true longitude) stands in for the true anomaly, as in ``elements``.
+    ``elements`` may give the state's elements when the caller has them.
     """
-    elements = state_to_elements(r_km, v_km_s, mu_km3_s2)
+    if elements is None:
+        elements = state_to_elements(r_km, v_km_s, mu_km3_s2)
     start = true_to_mean_anomaly(elements.nu_rad, elements.e)
     rate = mean_motion_rad_s(elements.p_km, elements.e, mu_km3_s2)
     end = mean_to_true_anomaly(start + rate * dt_s, elements.e)
@@ -78,20 +85,28 @@ def swept_angle_rad(r_km, v_km_s, dt_s: float, mu_km3_s2: float) -> float:
 
 
 def lowest_point(
-    r_start_km, v_start_km_s, duration_s: float | None, mu_km3_s2: float, r_end_km=None
+    r_start_km,
+    v_start_km_s,
+    duration_s: float | None,
+    mu_km3_s2: float,
+    r_end_km=None,
+    *,
+    elements: Elements | None = None,
 ) -> LowestPoint:
     """The lowest radius flown on a two-body arc of ``duration_s`` seconds (None: open-ended).
 
     An open-ended closed orbit reaches its periapsis within one period; an
     open-ended unbound one reaches it only if it is still inbound. ``r_end_km``
     may give the end state already computed (e.g. with J2 drift); otherwise the
-    end is propagated here.
+    end is propagated here. ``elements`` may give the start state's elements when the caller
+    has them.
     """
     r_start = np.asarray(r_start_km, dtype=float)
     v_start = np.asarray(v_start_km_s, dtype=float)
-    elements = state_to_elements(r_start, v_start, mu_km3_s2)
+    if elements is None:
+        elements = state_to_elements(r_start, v_start, mu_km3_s2)
     radius_start = float(np.linalg.norm(r_start))
-    to_periapsis = time_to_next_periapsis_s(r_start, v_start, mu_km3_s2)
+    to_periapsis = time_to_next_periapsis_s(r_start, v_start, mu_km3_s2, elements=elements)
     if duration_s is None:
         if np.isfinite(to_periapsis):
             return LowestPoint(float(periapsis_radius_km(elements)), to_periapsis)

@@ -69,6 +69,14 @@ class Elements:
     nu_rad: float | np.ndarray
 
     def __post_init__(self) -> None:
+        fields = (self.p_km, self.e, self.i_rad, self.raan_rad, self.argp_rad, self.nu_rad)
+        if (
+            all(type(value) is float for value in fields)
+            and all(map(math.isfinite, fields))
+            and self.p_km > 0.0
+            and self.e >= 0.0
+        ):
+            return  # one orbit of valid floats: the checks below would all pass
         for name in ("p_km", "e", "i_rad", "raan_rad", "argp_rad", "nu_rad"):
             if not np.all(np.isfinite(np.asarray(getattr(self, name), dtype=float))):
                 raise ValueError(f"element {name} must be finite, got {getattr(self, name)!r}")
@@ -125,6 +133,67 @@ def _wrap_2pi(angle_rad: np.ndarray) -> np.ndarray:
     return np.where(wrapped >= TWO_PI, 0.0, wrapped)
 
 
+def _wrap_2pi_one(angle_rad: float) -> float:
+    wrapped = angle_rad % TWO_PI  # Python's float % and np.mod round alike
+    return 0.0 if wrapped >= TWO_PI else wrapped
+
+
+def _state_to_elements_one(r_km, v_km_s, mu_km3_s2) -> Elements | None:
+    """``state_to_elements`` of one (3,) float state in plain Python arithmetic, or None.
+
+    Same formulas in the same order as the array code below, and numpy's own arctan2 and
+    hypot, so the result equals the array code's bit for bit, without numpy's per-call
+    cost on small arrays (a single state is the common call). Anything other than one valid state of
+    floats, or an orbit the array code refuses, returns None: the array code decides.
+    """
+    if not (
+        isinstance(r_km, np.ndarray)
+        and isinstance(v_km_s, np.ndarray)
+        and r_km.shape == (3,)
+        and v_km_s.shape == (3,)
+        and r_km.dtype == np.float64
+        and v_km_s.dtype == np.float64
+        and type(mu_km3_s2) is float
+    ):
+        return None
+    x, y, z = r_km.tolist()
+    vx, vy, vz = v_km_s.tolist()
+    mu = mu_km3_s2
+    if not (all(map(math.isfinite, (x, y, z, vx, vy, vz, mu))) and mu > 0.0):
+        return None
+    r_mag = math.sqrt(x * x + y * y + z * z)
+    hx, hy, hz = y * vz - z * vy, z * vx - x * vz, x * vy - y * vx
+    h_mag = math.sqrt(hx * hx + hy * hy + hz * hz)
+    p = float(np.float64(h_mag) ** 2) / mu  # numpy's scalar power, as the array code's 0-d
+    if r_mag == 0.0 or p <= RECTILINEAR_TOLERANCE * r_mag:
+        return None
+    ux, uy, uz = hx / h_mag, hy / h_mag, hz / h_mag
+    node_mag = float(np.hypot(hx, hy))
+    ex = (vy * hz - vz * hy) / mu - x / r_mag
+    ey = (vz * hx - vx * hz) / mu - y / r_mag
+    ez = (vx * hy - vy * hx) / mu - z / r_mag
+    e = math.sqrt(ex * ex + ey * ey + ez * ez)
+    equatorial = node_mag < EQUATORIAL_SIN_INCLINATION * h_mag
+    circular = e < ECCENTRICITY_CIRCULAR
+    reference = (1.0, 0.0, 0.0) if equatorial else (-hy, hx, 0.0)
+    periapsis = reference if circular else (ex, ey, ez)
+
+    def angle_about(a, b) -> float:
+        sx = a[1] * b[2] - a[2] * b[1]
+        sy = a[2] * b[0] - a[0] * b[2]
+        sz = a[0] * b[1] - a[1] * b[0]
+        sine = ux * sx + uy * sy + uz * sz
+        return float(np.arctan2(sine, a[0] * b[0] + a[1] * b[1] + a[2] * b[2]))
+
+    inclination = float(np.arctan2(node_mag, hz))
+    raan = 0.0 if equatorial else _wrap_2pi_one(float(np.arctan2(hx, -hy)))
+    argp = 0.0 if circular else _wrap_2pi_one(angle_about(reference, (ex, ey, ez)))
+    nu = angle_about(periapsis, (x, y, z))
+    if e < 1.0:
+        nu = _wrap_2pi_one(nu)
+    return Elements(p_km=p, e=e, i_rad=inclination, raan_rad=raan, argp_rad=argp, nu_rad=nu)
+
+
 def state_to_elements(r_km: ArrayLike, v_km_s: ArrayLike, mu_km3_s2: ArrayLike) -> Elements:
     """Osculating classical elements of a Cartesian state, for any conic.
 
@@ -133,6 +202,9 @@ def state_to_elements(r_km: ArrayLike, v_km_s: ArrayLike, mu_km3_s2: ArrayLike) 
     Raises ValueError for non-finite input, r = 0, mu <= 0, or zero angular momentum
     (rectilinear motion, which has no orbital plane and so no elements).
     """
+    one = _state_to_elements_one(r_km, v_km_s, mu_km3_s2)
+    if one is not None:
+        return one
     r, v = _state(r_km, v_km_s)
     mu = _mu(mu_km3_s2)
     r_mag = np.linalg.norm(r, axis=-1)
@@ -265,11 +337,15 @@ def elements_from_semi_major_axis(
 
 def periapsis_radius_km(elements: Elements) -> float | np.ndarray:
     """Periapsis radius p / (1 + e), km, for any conic (Vallado 4th ed., ch. 1, conic geometry)."""
+    if type(elements.p_km) is float and type(elements.e) is float:
+        return elements.p_km / (1.0 + elements.e)
     return float_or_array(np.asarray(elements.p_km, dtype=float) / (1.0 + np.asarray(elements.e)))
 
 
 def apoapsis_radius_km(elements: Elements) -> float | np.ndarray:
     """Apoapsis radius p / (1 - e), km; nan for open orbits, e >= 1 (Vallado 4th ed., ch. 1)."""
+    if type(elements.p_km) is float and type(elements.e) is float:
+        return elements.p_km / (1.0 - elements.e) if elements.e < 1.0 else math.nan
     p = np.asarray(elements.p_km, dtype=float)
     e = np.asarray(elements.e, dtype=float)
     with np.errstate(divide="ignore", invalid="ignore"):
@@ -281,6 +357,13 @@ def period_s(elements: Elements, mu_km3_s2: ArrayLike) -> float | np.ndarray:
 
     Kepler's third law: Vallado 4th ed., ch. 1; Curtis 3rd ed., section 2.7.
     """
+    e_one, mu_one = elements.e, mu_km3_s2
+    if type(elements.p_km) is float and type(e_one) is float and type(mu_one) is float:
+        if math.isfinite(mu_one) and mu_one > 0.0:
+            if e_one >= 1.0:
+                return math.nan
+            # numpy's power, as the array code raises a 0-d array to the third power
+            return TWO_PI * math.sqrt(float(np.power(elements.a_km, 3.0)) / mu_one)
     mu = _mu(mu_km3_s2)
     a = np.asarray(elements.a_km, dtype=float)
     e = np.asarray(elements.e, dtype=float)
@@ -298,6 +381,20 @@ def specific_energy_km2_s2(
     Vallado 4th ed., ch. 1 (specific mechanical energy); Curtis 3rd ed., section 2.5.
     ``r_km``/``v_km_s`` (3,) or (N, 3); ``mu_km3_s2`` > 0.
     """
+    if (
+        isinstance(r_km, np.ndarray)
+        and isinstance(v_km_s, np.ndarray)
+        and r_km.shape == v_km_s.shape == (3,)
+        and r_km.dtype == v_km_s.dtype == np.float64
+        and type(mu_km3_s2) is float
+        and math.isfinite(mu_km3_s2)
+        and mu_km3_s2 > 0.0
+    ):
+        (x, y, z), (vx, vy, vz) = r_km.tolist(), v_km_s.tolist()
+        if all(map(math.isfinite, (x, y, z, vx, vy, vz))) and (x, y, z) != (0.0, 0.0, 0.0):
+            return 0.5 * (vx * vx + vy * vy + vz * vz) - mu_km3_s2 / math.sqrt(
+                x * x + y * y + z * z
+            )
     r, v = _state(r_km, v_km_s)
     mu = _mu(mu_km3_s2)
     return float_or_array(0.5 * np.sum(v * v, axis=-1) - mu / np.linalg.norm(r, axis=-1))

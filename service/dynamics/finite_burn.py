@@ -15,6 +15,7 @@ differences and, for burns across the velocity, in the loss.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -131,11 +132,25 @@ def propagate_constant_thrust(
     # N / kg is m/s^2; positions and velocities are in km.
     thrust_km_n = thrust / 1000.0
 
+    ux, uy, uz = u.tolist()
+
     def rhs(_t: float, y: np.ndarray) -> np.ndarray:
-        r = y[:3]
-        r_norm = np.sqrt(r @ r)
-        accel = -mu / r_norm**3 * r + (thrust_km_n / y[6]) * u
-        return np.concatenate((y[3:6], accel, (-mdot,)))
+        # The step is called about 70 times per burn: plain floats instead of small arrays.
+        # Same arithmetic as -mu / |r|^3 r + (F / m) u with numpy's scalar power for |r|^3.
+        x, yy, z, vx, vy, vz, mass = y.tolist()
+        gravity = -mu / float(np.float64(math.sqrt(x * x + yy * yy + z * z)) ** 3)
+        push = thrust_km_n / mass
+        return np.array(
+            (
+                vx,
+                vy,
+                vz,
+                gravity * x + push * ux,
+                gravity * yy + push * uy,
+                gravity * z + push * uz,
+                -mdot,
+            )
+        )
 
     y0 = np.concatenate((r0, v0, (m0,)))
     atol = np.array([_ATOL_KM] * 3 + [_ATOL_KM_S] * 3 + [_RTOL * m0])

@@ -19,6 +19,8 @@ plan resolves), so for them the conversion is the identity.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
@@ -108,6 +110,49 @@ def _matrix(frame: str, r_km: ArrayLike, v_km_s: ArrayLike) -> np.ndarray | None
     raise ValueError(f"unknown frame {frame!r}; known: {', '.join(FRAMES)}")
 
 
+def _matrix_one(frame: str, r_km: ArrayLike, v_km_s: ArrayLike) -> np.ndarray | None:
+    """``_matrix`` of RTN or TNW at one (3,) float state in plain floats, or None.
+
+    The trajectory builder turns each burn's delta-v at one state. The same unit vectors
+    from the same arithmetic (norms summed in numpy's order) without numpy's per-call cost;
+    anything else, or a state the general code refuses, returns None and goes there.
+    """
+    if frame not in LOCAL_FRAMES or not (
+        isinstance(r_km, np.ndarray)
+        and isinstance(v_km_s, np.ndarray)
+        and r_km.shape == (3,)
+        and v_km_s.shape == (3,)
+        and r_km.dtype == np.float64
+        and v_km_s.dtype == np.float64
+    ):
+        return None
+    r, v = r_km.tolist(), v_km_s.tolist()
+    if not all(map(math.isfinite, r + v)):
+        return None
+    h = _cross(r, v)
+    h_norm = _norm(h)
+    if not h_norm > _MIN_SINE_R_V * (_norm(r) * _norm(v)):
+        return None
+    w = [h[0] / h_norm, h[1] / h_norm, h[2] / h_norm]
+    if frame == "RTN":
+        r_norm = _norm(r)
+        radial = [r[0] / r_norm, r[1] / r_norm, r[2] / r_norm]
+        columns = (radial, _cross(w, radial), w)
+    else:
+        v_norm = _norm(v)
+        along = [v[0] / v_norm, v[1] / v_norm, v[2] / v_norm]
+        columns = (along, _cross(w, along), w)
+    return np.array([[column[row] for column in columns] for row in range(3)])
+
+
+def _cross(a: list, b: list) -> list:
+    return [a[1] * b[2] - a[2] * b[1], a[2] * b[0] - a[0] * b[2], a[0] * b[1] - a[1] * b[0]]
+
+
+def _norm(a: list) -> float:
+    return math.sqrt(a[0] * a[0] + a[1] * a[1] + a[2] * a[2])
+
+
 def _vector(vector: ArrayLike) -> np.ndarray:
     vec = np.asarray(vector, dtype=float)
     if vec.ndim not in (1, 2) or vec.shape[-1] != 3:
@@ -147,7 +192,9 @@ def local_to_inertial(
     non-finite input or a state with zero angular momentum (RTN, TNW).
     """
     vec = _vector(vector)
-    matrix = _matrix(frame, r_km, v_km_s)
+    matrix = _matrix_one(frame, r_km, v_km_s)
+    if matrix is None:
+        matrix = _matrix(frame, r_km, v_km_s)
     return _rotate(vec, matrix, False, r_km, v_km_s)
 
 

@@ -2,7 +2,7 @@
 
 One numpy call propagates many (state, time) pairs: elliptic, parabolic and hyperbolic
 orbits, forward and backward in time. The universal anomaly chi solves the universal Kepler
-equation by Newton's method with Halley's correction (``scipy.optimize.newton`` on arrays);
+equation by Newton's method with Halley's correction (``scipy.optimize.newton``'s array rules);
 the state follows from the Lagrange coefficients f, g, f-dot and g-dot. The Stumpff functions
 C and S behind the universal functions live in ``service.dynamics.stumpff``.
 
@@ -14,13 +14,12 @@ section 3.7 and Algorithms 3.3 and 3.4.
 from __future__ import annotations
 
 import math
-import warnings
 
 import numpy as np
-from scipy.optimize import newton
 from scipy.optimize.elementwise import find_root
 
-from service.dynamics.stumpff import stumpff_cs
+from service.dynamics.stumpff import _C_COEFFS, _S_COEFFS, stumpff_cs
+from service.dynamics.stumpff import _Z_SERIES as _STUMPFF_SERIES
 
 # Newton iterates on y = chi / s with s = sqrt(mu) |dt| / r0 (the short-arc chi), where
 # roots are of order 1; after a step below 1e-10, Halley's cubic convergence leaves y at
@@ -68,31 +67,11 @@ class _ScaledKepler:
     F = r0 U1 + sigma0 U2 + U3 - sqrt(mu) dt with sigma0 = r0.v0 / sqrt(mu) (Curtis 3rd ed.
     Algorithm 3.3; Vallado 4th ed. Algorithm 8); dF/dchi = r0 U0 + sigma0 U1 + U2 = r and
     d2F/dchi2 = sigma0 U0 + (1 - alpha r0) U1. With s = sqrt(mu) |dt| / r0, sqrt(mu) dt / s
-    is t = sign(dt) r0. scipy asks for G, G' and G'' at one iterate in turn: computed once.
+    is t = sign(dt) r0. ``_newton_halley`` evaluates G, G' and G'' together.
     """
 
     def __init__(self, s, r0n, sigma0, alpha, t):
         self.s, self.r0n, self.sigma0, self.alpha, self.t = s, r0n, sigma0, alpha, t
-        self._y = None
-
-    def _at(self, y):
-        if self._y is None or not np.array_equal(y, self._y):
-            s, r0n, sigma0, alpha = self.s, self.r0n, self.sigma0, self.alpha
-            v0, v1, v2, v3 = _universal(y, s, alpha)
-            g = r0n * v1 + sigma0 * v2 + v3 - self.t
-            dg = r0n * v0 + s * (sigma0 * v1 + v2)
-            d2g = s * (sigma0 * v0 + (1.0 - alpha * r0n) * s * v1)
-            self._y, self._cached = y.copy(), (g, dg, d2g)
-        return self._cached
-
-    def g(self, y):
-        return self._at(y)[0]
-
-    def dg(self, y):
-        return self._at(y)[1]
-
-    def d2g(self, y):
-        return self._at(y)[2]
 
 
 def _scaled_kepler(y, s, r0n, sigma0, alpha, t):
@@ -152,17 +131,52 @@ def _initial_y(r0n, rv, alpha, mu, sqrt_mu, dt, h2, s, bound):
     return y0
 
 
+def _newton_halley(eq, y0: np.ndarray) -> np.ndarray:
+    """The root of G(y) by ``scipy.optimize.newton``'s array Halley iteration, step for step.
+
+    scipy's rules exactly (every sample with a non-zero derivative steps each iteration until
+    all steps are below the tolerance; when no sample converges it raises, and the caller
+    then kept the last iterate it had evaluated), without its per-call and per-derivative
+    overhead, which dominated the cost of small batches.
+    """
+    s, r0n, sigma0, alpha, t = eq.s, eq.r0n, eq.sigma0, eq.alpha, eq.t
+    p = np.array(y0, dtype=float, copy=True)
+    failures = np.ones_like(p, dtype=bool)
+    nz_der = np.ones_like(failures)
+    evaluated = p
+    for _ in range(_NEWTON_MAXITER):
+        v0, v1, v2, v3 = _universal(p, s, alpha)
+        evaluated = p.copy()
+        fval = r0n * v1 + sigma0 * v2 + v3 - t
+        if not fval.any():
+            return p
+        fder = r0n * v0 + s * (sigma0 * v1 + v2)
+        nz_der = fder != 0
+        if not nz_der.any():
+            return p
+        fder2 = s * (sigma0 * v0 + (1.0 - alpha * r0n) * s * v1)
+        if nz_der.all():
+            dp = fval / fder
+            dp = dp / (1.0 - 0.5 * dp * fder2 / fder)
+            p -= dp
+            failures = np.abs(dp) >= _STEP_TOL
+            if not failures.any():
+                return p
+        else:
+            dp = fval[nz_der] / fder[nz_der]
+            dp = dp / (1.0 - 0.5 * dp * fder2[nz_der] / fder[nz_der])
+            p[nz_der] -= dp
+            failures[nz_der] = np.abs(dp) >= _STEP_TOL
+            if not failures[nz_der].any():
+                return p
+    if not (~nz_der & failures).any() and failures.all():
+        return evaluated  # where scipy raised for want of any converged sample
+    return p
+
+
 def _solve_y(eq, y0, bound):
     """U0 and U1..U3 over s at the root: Newton-Halley from y0, bracketing where needed."""
-    with warnings.catch_warnings():
-        # Convergence is judged below from the residual of every sample.
-        warnings.simplefilter("ignore", RuntimeWarning)
-        try:
-            y = newton(
-                eq.g, y0, fprime=eq.dg, fprime2=eq.d2g, tol=_STEP_TOL, maxiter=_NEWTON_MAXITER
-            )
-        except RuntimeError:
-            y = eq._y  # scipy raises when no sample converged; keep its last iterate
+    y = _newton_halley(eq, y0)
     u = _universal(y, eq.s, eq.alpha)
     unsettled = ~(_relative_residual(*u[1:], eq.r0n, eq.sigma0, eq.t) <= _SETTLED_TOL)
     if unsettled.any():
@@ -183,6 +197,9 @@ def _solve(r0, v0, dt, mu):
     """Propagate n >= 1 samples with dt != 0; arrays (n, 3), (n, 3), (n,), (n,)."""
     n = dt.shape[0]
     if n == 1:
+        one = _solve_one(r0[0].tolist(), v0[0].tolist(), float(dt[0]), float(mu[0]))
+        if one is not None:
+            return np.array([one[0]]), np.array([one[1]])
         # scipy's newton takes a scalar code path with other stopping rules for one sample;
         # two copies keep single calls on the same algorithm as batches.
         r, v = _solve(np.repeat(r0, 2, 0), np.repeat(v0, 2, 0), np.repeat(dt, 2), np.repeat(mu, 2))
@@ -229,6 +246,126 @@ def _solve(r0, v0, dt, mu):
     return r, v
 
 
+def _dot(a: list, b: list) -> float:
+    """``np.einsum("ij,ij->i")`` of one row, summed in the order numpy sums three terms."""
+    return a[0] * b[0] + a[2] * b[2] + a[1] * b[1]
+
+
+def _stumpff_one(z: float) -> tuple[float, float]:
+    """``stumpff_cs`` for one float, in plain Python arithmetic (the same formulas)."""
+    if z > _STUMPFF_SERIES:
+        x = math.sqrt(z)
+        half = math.sin(0.5 * x)
+        return 2.0 * (half * half) / z, (x - math.sin(x)) / (z * x)
+    if z < -_STUMPFF_SERIES:
+        zn = -z
+        x = math.sqrt(zn)
+        half = float(np.sinh(0.5 * x))
+        return 2.0 * (half * half) / zn, (float(np.sinh(x)) - x) / (zn * x)
+    c, s = _C_COEFFS[-1], _S_COEFFS[-1]
+    for k in range(len(_C_COEFFS) - 2, -1, -1):
+        c = c * z + _C_COEFFS[k]
+        s = s * z + _S_COEFFS[k]
+    return c, s
+
+
+def _solve_one_unguarded(r0: list, v0: list, dt: float, mu: float) -> tuple[list, list] | None:
+    """``_solve`` for one sample in plain Python floats: Python's per-call cost is a few
+    microseconds where numpy's is tens, and a single state is the common call (trajectory
+    building, root searches along an arc). Same formulas and order of operations, same
+    Newton-Halley iteration as scipy's array ``newton`` (tolerance, iteration cap, stopping
+    rules), and numpy's own sinh, pow, log, tan, cbrt and arctan2 (which can differ from
+    the math module's in the last bit), so results equal the array path's bit for bit.
+    Returns None whenever that path would do anything else (a zero or non-finite step, no
+    convergence in ``_NEWTON_MAXITER``, a root not settled, a failed guard): the caller then
+    takes the array path, which decides.
+    """
+    x0, y0, z0 = r0
+    vx0, vy0, vz0 = v0
+    sqrt_mu = math.sqrt(mu)
+    r0n = math.sqrt(_dot(r0, r0))
+    rv = _dot(r0, v0)
+    alpha = 2.0 / r0n - _dot(v0, v0) / mu
+    hx, hy, hz = y0 * vz0 - z0 * vy0, z0 * vx0 - x0 * vz0, x0 * vy0 - y0 * vx0
+    h2 = hx * hx + hy * hy + hz * hz
+    if alpha > 0.0:
+        period = 2.0 * math.pi / (sqrt_mu * float(np.power(alpha, 1.5)))
+        revs = float(round(dt / period))  # half to even, as np.round
+        if revs != 0.0:
+            dt = dt - revs * period
+    s = sqrt_mu * abs(dt) / r0n
+    if s == 0.0:
+        s = 1.0
+    # _y_bound
+    p = h2 / mu
+    e = math.sqrt(max(1.0 - p * alpha, 0.0))
+    by_periapsis = r0n * (1.0 + e) / p if p > 0.0 else math.inf
+    if alpha == 0.0:
+        return None
+    cap = (math.pi + 2.0 if alpha > 0.0 else _HYPERBOLIC_CAP) / (math.sqrt(abs(alpha)) * s)
+    bound = min(by_periapsis, cap) * (1.0 + 1e-6)
+    # _initial_y
+    alpha_r0 = alpha * r0n
+    sgn = (dt > 0.0) - (dt < 0.0)
+    if alpha_r0 > _PARABOLIC_ALPHA_R0:
+        y = alpha_r0 * sgn
+    elif alpha_r0 < -_PARABOLIC_ALPHA_R0:
+        a = 1.0 / alpha
+        ratio = (-2.0 * mu * alpha * dt) / (rv + sgn * math.sqrt(-mu * a) * (1.0 - alpha_r0))
+        y = sgn * math.sqrt(-a) * float(np.log(ratio)) / s if ratio > 0.0 else math.nan
+    else:
+        x = 3.0 * math.sqrt(mu / float(np.power(p, 3.0))) * dt
+        tan_w = float(np.cbrt(np.tan(0.5 * float(np.arctan2(1.0, x)))))
+        y = math.sqrt(p) * (1.0 / tan_w - tan_w) / s if tan_w != 0.0 else math.nan
+    if not math.isfinite(y) or y * sgn <= 0.0 or abs(y) > bound:
+        y = sgn * min(1.0, bound)
+    # Newton-Halley on G(y) (``_ScaledKepler``), scipy's array rules for one sample.
+    sigma0 = rv / sqrt_mu
+    t = sgn * r0n
+    one_minus_ar0 = 1.0 - alpha * r0n
+    for _ in range(_NEWTON_MAXITER):
+        chi = s * y
+        z = alpha * chi * chi
+        c, st = _stumpff_one(z)
+        u0, u1, u2 = 1.0 - z * c, y * (1.0 - z * st), y * chi * c
+        g = r0n * u1 + sigma0 * u2 + y * chi * chi * st - t
+        if g == 0.0:
+            break
+        dg = r0n * u0 + s * (sigma0 * u1 + u2)
+        if dg == 0.0 or not math.isfinite(g) or not math.isfinite(dg):
+            return None
+        d2g = s * (sigma0 * u0 + one_minus_ar0 * s * u1)
+        step = g / dg
+        step = step / (1.0 - 0.5 * step * d2g / dg)
+        y -= step
+        if abs(step) < _STEP_TOL:
+            break
+    else:
+        return None
+    chi = s * y
+    z = alpha * chi * chi
+    c, st = _stumpff_one(z)
+    u1, u2, u3 = y * (1.0 - z * st), y * chi * c, y * chi * chi * st
+    terms = (r0n * u1, sigma0 * u2, u3, -t)
+    size = abs(terms[0]) + abs(terms[1]) + abs(terms[2]) + abs(terms[3])
+    total = abs(terms[0] + terms[1] + terms[2] + terms[3])
+    if not total / (size if size > 0.0 else 1.0) <= _SETTLED_TOL:
+        return None
+    f = 1.0 - s * u2 / r0n
+    g = dt - s * u3 / sqrt_mu
+    r = [f * x0 + g * vx0, f * y0 + g * vy0, f * z0 + g * vz0]
+    rn = math.sqrt(_dot(r, r))
+    fdot = -sqrt_mu * s * u1 / (rn * r0n)
+    gdot = 1.0 - s * u2 / rn
+    v = [fdot * x0 + gdot * vx0, fdot * y0 + gdot * vy0, fdot * z0 + gdot * vz0]
+    fg, gf = f * gdot, fdot * g
+    if not abs(fg - gf - 1.0) / max(1.0, abs(fg) + abs(gf)) <= _LAGRANGE_TOL:
+        return None
+    if not all(map(math.isfinite, r + v)):
+        return None
+    return r, v
+
+
 def _require(error: np.ndarray, tol: float, verdict: str, what: str) -> None:
     """Raise KeplerConvergenceError naming the samples whose error exceeds tol (or is NaN)."""
     bad = ~(error <= tol)
@@ -251,6 +388,50 @@ def _checked(value, name: str, vector: bool) -> np.ndarray:
     return arr
 
 
+_SCALARS = (float, int, np.floating, np.integer)
+
+
+def _propagate_one(r0_km, v0_km_s, dt_s, mu_km3_s2) -> tuple[np.ndarray, np.ndarray] | None:
+    """``propagate`` of one (3,) float state by a scalar time, or None for the general path.
+
+    The general path does the argument checks and raises; this one only takes inputs that
+    would pass them, and hands anything unusual (a very short or zero step, no settled root)
+    back to it.
+    """
+    if not (
+        isinstance(r0_km, np.ndarray)
+        and isinstance(v0_km_s, np.ndarray)
+        and r0_km.shape == (3,)
+        and v0_km_s.shape == (3,)
+        and r0_km.dtype == np.float64
+        and v0_km_s.dtype == np.float64
+        and isinstance(dt_s, _SCALARS)
+        and isinstance(mu_km3_s2, _SCALARS)
+    ):
+        return None
+    r0, v0 = r0_km.tolist(), v0_km_s.tolist()
+    dt, mu = float(dt_s), float(mu_km3_s2)
+    if not all(map(math.isfinite, r0 + v0)) or not (math.isfinite(dt) and math.isfinite(mu)):
+        return None
+    if mu <= 0.0:
+        return None
+    r0n = math.sqrt(_dot(r0, r0))
+    if r0n == 0.0 or abs(dt) < _SERIES_DT * r0n * math.sqrt(r0n / mu):
+        return None
+    one = _solve_one(r0, v0, dt, mu)
+    if one is None:
+        return None
+    return np.array(one[0]), np.array(one[1])
+
+
+def _solve_one(r0: list, v0: list, dt: float, mu: float) -> tuple[list, list] | None:
+    try:
+        return _solve_one_unguarded(r0, v0, dt, mu)
+    except (ArithmeticError, ValueError):
+        # Python raises where numpy gives inf or nan: the array path handles those.
+        return None
+
+
 def propagate(r0_km, v0_km_s, dt_s, mu_km3_s2) -> tuple[np.ndarray, np.ndarray]:
     """Position and velocity after dt_s of two-body motion, for many samples in one call.
 
@@ -267,6 +448,9 @@ def propagate(r0_km, v0_km_s, dt_s, mu_km3_s2) -> tuple[np.ndarray, np.ndarray]:
     Raises ValueError for non-finite input, a zero position, mu <= 0 or bad shapes;
     KeplerConvergenceError (a RuntimeError) if Kepler's equation is not solved to tolerance.
     """
+    one = _propagate_one(r0_km, v0_km_s, dt_s, mu_km3_s2)
+    if one is not None:
+        return one
     r0 = _checked(r0_km, "r0_km", vector=True)
     v0 = _checked(v0_km_s, "v0_km_s", vector=True)
     dt = _checked(dt_s, "dt_s", vector=False)

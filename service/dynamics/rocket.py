@@ -11,11 +11,31 @@ numpy float64 scalars. Masses in kg, delta-v in m/s, Isp in s, thrust in N.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
 from service.dynamics.bodies import G0_M_S2
 from service.dynamics.inputs import non_negative, positive, scalar_or_array
+
+
+def _floats(*values) -> tuple[float, ...] | None:
+    """The arguments as Python floats when every one is a finite float (or int), else None.
+
+    One burn at a time is the common call; such arguments skip the array checks (the same
+    arithmetic follows, with numpy's expm1), anything else takes the general path.
+    """
+    out = []
+    for value in values:
+        kind = type(value)
+        if kind is not float and kind is not int and kind is not np.float64:
+            return None
+        number = float(value)
+        if not math.isfinite(number):
+            return None
+        out.append(number)
+    return tuple(out)
 
 
 def exhaust_velocity_m_s(isp_s: ArrayLike) -> np.ndarray | np.float64:
@@ -38,6 +58,10 @@ def propellant_for_delta_v_kg(
     Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` velocity
     change, m/s (>= 0); ``isp_s`` specific impulse, s (> 0). Returns kg.
     """
+    one = _floats(mass_before_kg, delta_v_m_s, isp_s)
+    if one is not None and one[0] > 0.0 and one[1] >= 0.0 and one[2] > 0.0:
+        m0, dv, c = one[0], one[1], one[2] * G0_M_S2
+        return np.float64(-m0 * float(np.expm1(-dv / c)))
     m0 = positive("mass_before_kg", mass_before_kg)
     dv = non_negative("delta_v_m_s", delta_v_m_s)
     c = positive("isp_s", isp_s) * G0_M_S2
@@ -91,6 +115,10 @@ def burn_duration_s(
     Parameters: ``mass_before_kg`` mass at ignition, kg (> 0); ``delta_v_m_s`` m/s (>= 0);
     ``thrust_n`` N (> 0); ``isp_s`` s (> 0). Returns s.
     """
+    one = _floats(mass_before_kg, delta_v_m_s, thrust_n, isp_s)
+    if one is not None and one[0] > 0.0 and one[1] >= 0.0 and one[2] > 0.0 and one[3] > 0.0:
+        m0, dv, thrust, c = one[0], one[1], one[2], one[3] * G0_M_S2
+        return np.float64(-m0 * float(np.expm1(-dv / c)) * c / thrust)
     m0 = positive("mass_before_kg", mass_before_kg)
     dv = non_negative("delta_v_m_s", delta_v_m_s)
     thrust = positive("thrust_n", thrust_n)

@@ -24,12 +24,47 @@ _C_COEFFS = tuple((-1.0) ** k / math.factorial(2 * k + 2) for k in range(_SERIES
 _S_COEFFS = tuple((-1.0) ** k / math.factorial(2 * k + 3) for k in range(_SERIES_TERMS))
 
 
+# The two series side by side, so that Horner's rule runs once over both (same arithmetic):
+# row k holds the k-th coefficients of C and S.
+_COEFFS = np.array([_C_COEFFS, _S_COEFFS]).T.copy()
+
+
+# Up to this many samples the two series share one flat operand (per-call cost dominates);
+# beyond it each series runs in place on its own (memory traffic dominates).
+_SMALL_BATCH = 64
+
+
+def _series(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """C and S from their Maclaurin series by Horner's rule (|z| <= 1)."""
+    n = z.shape[0]
+    if n <= _SMALL_BATCH:
+        # Flat [C..., S...] operands: numpy's broadcasting costs more than the arithmetic here.
+        coeffs = np.repeat(_COEFFS, n, axis=1)
+        zz = np.concatenate((z, z))
+        both = coeffs[-1].copy()
+        for k in range(_SERIES_TERMS - 2, -1, -1):
+            np.multiply(both, zz, out=both)
+            np.add(both, coeffs[k], out=both)
+        return both[:n], both[n:]
+    cs = np.full_like(z, _C_COEFFS[-1])
+    ss = np.full_like(z, _S_COEFFS[-1])
+    for k in range(_SERIES_TERMS - 2, -1, -1):
+        np.multiply(cs, z, out=cs)
+        np.add(cs, _C_COEFFS[k], out=cs)
+        np.multiply(ss, z, out=ss)
+        np.add(ss, _S_COEFFS[k], out=ss)
+    return cs, ss
+
+
 def stumpff_cs(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """Both Stumpff functions C(z) and S(z) of a 1-D float array (see ``stumpff_c``)."""
-    c = np.empty_like(z)
-    s = np.empty_like(z)
     pos = z > _Z_SERIES
     neg = z < -_Z_SERIES
+    if not (pos.any() or neg.any()):
+        # Every sample on the series (short arcs): no masks to gather and scatter.
+        return _series(z)
+    c = np.empty_like(z)
+    s = np.empty_like(z)
     small = ~(pos | neg)
     if pos.any():
         zp = z[pos]
@@ -43,14 +78,7 @@ def stumpff_cs(z: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         c[neg] = 2.0 * np.sinh(0.5 * x) ** 2 / zn
         s[neg] = (np.sinh(x) - x) / (zn * x)
     if small.any():
-        zs = z[small]
-        cs = np.full_like(zs, _C_COEFFS[-1])
-        ss = np.full_like(zs, _S_COEFFS[-1])
-        for k in range(_SERIES_TERMS - 2, -1, -1):
-            cs = cs * zs + _C_COEFFS[k]
-            ss = ss * zs + _S_COEFFS[k]
-        c[small] = cs
-        s[small] = ss
+        c[small], s[small] = _series(z[small])
     return c, s
 
 

@@ -10,12 +10,20 @@ hundredths of a degree. Valid 1950-2050 (the Sun) and 1800-2050 (Mars); epochs o
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 from numpy.typing import ArrayLike
 
 from service.dynamics.anomalies import mean_to_true_anomaly
-from service.dynamics.precession import precession_mod_to_j2000
-from service.dynamics.timescales import epochs_ms, julian_centuries_j2000
+from service.dynamics.precession import ARCSEC_RAD, precession_mod_to_j2000
+from service.dynamics.timescales import (
+    DAYS_PER_JULIAN_CENTURY,
+    J2000_UTC,
+    MS_PER_DAY,
+    epochs_ms,
+    julian_centuries_j2000,
+)
 
 # Astronomical unit, exact by definition: IAU 2012 Resolution B2.
 AU_KM = 149_597_870.7
@@ -87,8 +95,69 @@ def sun_position_km(epochs: ArrayLike) -> np.ndarray:
     rotated to J2000 by IAU 1976 precession (Vallado 4th ed., eqs. 3-88 to 3-90). The 23 mas
     frame bias between J2000 and GCRF is ignored. ``epochs`` UTC datetime64, 1950-2050.
     """
+    one = _sun_position_one_km(epochs)
+    if one is not None:
+        return one
     mod = sun_position_mean_of_date_km(epochs)
     return np.einsum("...ij,...j->...i", precession_mod_to_j2000(epochs), mod)
+
+
+def _sun_position_one_km(epochs) -> np.ndarray | None:
+    """``sun_position_km`` of a single epoch (shape (1,)), or None for anything else.
+
+    A root search asks for one epoch at a time. The same arithmetic as the array code (the
+    Sun's series and the precession angles in plain floats, numpy's radians, the rotation
+    matrices multiplied and applied by the same numpy calls on arrays of the same shapes),
+    so the same position, without the per-call cost of the general path.
+    """
+    if not (isinstance(epochs, np.ndarray) and epochs.shape == (1,)):
+        return None
+    if epochs.dtype != np.dtype("datetime64[ms]") or np.isnat(epochs[0]):
+        return None
+    if not _FIRST <= epochs[0] <= _LAST:
+        return None
+    ms = int((epochs[0] - J2000_UTC).astype(np.int64))
+    t = ms / (MS_PER_DAY * DAYS_PER_JULIAN_CENTURY)
+    mean_longitude = 280.460 + 36000.771 * t
+    mean_anomaly = float(np.radians(357.5291092 + 35999.05034 * t))
+    longitude = float(
+        np.radians(
+            mean_longitude
+            + 1.914666471 * math.sin(mean_anomaly)
+            + 0.019994643 * math.sin(2.0 * mean_anomaly)
+        )
+    )
+    distance_au = (
+        1.000140612
+        - 0.016708617 * math.cos(mean_anomaly)
+        - 0.000139589 * math.cos(2.0 * mean_anomaly)
+    )
+    obliquity = float(np.radians(23.439291 - 0.0130042 * t))
+    scale = distance_au * AU_KM
+    mod = np.array(
+        [
+            [
+                math.cos(longitude) * scale,
+                math.cos(obliquity) * math.sin(longitude) * scale,
+                math.sin(obliquity) * math.sin(longitude) * scale,
+            ]
+        ]
+    )
+    zeta = ((0.017998 * t + 0.30188) * t + 2306.2181) * t * ARCSEC_RAD
+    theta = ((-0.041833 * t - 0.42665) * t + 2004.3109) * t * ARCSEC_RAD
+    z = ((0.018203 * t + 1.09468) * t + 2306.2181) * t * ARCSEC_RAD
+    j2000_to_mod = _rotation_z(-z) @ _rotation_y(theta) @ _rotation_z(-zeta)
+    return np.einsum("...ij,...j->...i", np.swapaxes(j2000_to_mod, -1, -2), mod)
+
+
+def _rotation_z(angle_rad: float) -> np.ndarray:
+    c, s = math.cos(angle_rad), math.sin(angle_rad)
+    return np.array([[[c, s, 0.0], [-s, c, 0.0], [0.0, 0.0, 1.0]]])
+
+
+def _rotation_y(angle_rad: float) -> np.ndarray:
+    c, s = math.cos(angle_rad), math.sin(angle_rad)
+    return np.array([[[c, 0.0, -s], [0.0, 1.0, 0.0], [s, 0.0, c]]])
 
 
 def mars_heliocentric_position_km(epochs: ArrayLike) -> np.ndarray:

@@ -13,6 +13,7 @@ once: checks read it and never propagate for themselves.
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Sequence
 from dataclasses import dataclass
 from typing import Literal
@@ -155,16 +156,36 @@ class Trajectory:
         Each epoch is placed on the last arc that has started by then (arc 0 before the
         plan epoch) and coasted from that arc's start with the trajectory's coast model:
         the impulsive model, so inside a burn the state jumps at its mid-point. One
-        vectorised propagation per arc touched.
+        vectorised propagation for all the epochs (two-body), or one per arc touched
+        (secular J2).
         """
         times = np.atleast_1d(np.asarray(epochs, dtype="datetime64[ms]"))
-        starts = np.array([arc.start for arc in self.arcs], dtype="datetime64[ms]")
-        started = starts[:, None] <= times[None, :]
-        last = len(self.arcs) - 1 - np.argmax(started[::-1], axis=0)
-        index = np.where(started.any(axis=0), last, 0)
+        if times.shape == (1,) and self.coast_model == "two-body":
+            # One epoch (a root search asks for one at a time): the same coast, less overhead.
+            k = self._arc_index_one(times[0])
+            arc = self.arcs[k]
+            dt_s = float(seconds_between(arc.start, times[0]))
+            mu = self.body.mu_km3_s2
+            self._refuse_unless_orbit(k)
+            r_one, v_one = propagate(arc.r_start_km, arc.v_start_km_s, dt_s, mu)
+            return np.reshape(r_one, (1, 3)), np.reshape(v_one, (1, 3))
+        starts = self._arc_starts
+        if self._arc_starts_ordered and times.ndim == 1:
+            # The last arc that has started: a binary search when the starts are in order.
+            index = np.maximum(np.searchsorted(starts, times, side="right") - 1, 0)
+        else:
+            started = starts[:, None] <= times[None, :]
+            last = len(self.arcs) - 1 - np.argmax(started[::-1], axis=0)
+            index = np.where(started.any(axis=0), last, 0)
+        touched = np.unique(index)
+        if touched.size > 1 and self._one_call_ready and not np.isnat(times).any():
+            try:
+                return self._coast_from_arcs(times, index, touched)
+            except (ValueError, ArithmeticError, RuntimeError):
+                pass  # the arc-by-arc coast below raises as it always has
         r_km = np.empty((times.size, 3))
         v_km_s = np.empty((times.size, 3))
-        for k in np.unique(index):
+        for k in touched:
             mask = index == k
             arc = self.arcs[int(k)]
             dt_s = np.asarray(seconds_between(arc.start, times[mask]), dtype=float)
@@ -172,6 +193,64 @@ class Trajectory:
                 arc.r_start_km, arc.v_start_km_s, dt_s, self.body, self.coast_model
             )
         return r_km, v_km_s
+
+    @functools.cached_property
+    def _one_call_ready(self) -> bool:
+        """Two-body arcs that start on whole milliseconds: coasted in one call from any arcs."""
+        if self.coast_model != "two-body":
+            return False
+        unit = np.dtype("datetime64[ms]")
+        return all(isinstance(a.start, np.datetime64) and a.start.dtype == unit for a in self.arcs)
+
+    def _coast_from_arcs(self, times: np.ndarray, index: np.ndarray, touched: np.ndarray):
+        """Every epoch coasted from its own arc's start state in one vectorised call.
+
+        The same two-body coast as arc by arc; the Newton iteration of a batch runs until its
+        last sample settles, so a sample can come out a rounding unit apart from an
+        arc-by-arc batch, never more.
+        """
+        mu = self.body.mu_km3_s2
+        for k in touched:
+            self._refuse_unless_orbit(int(k))
+        r0_km, v0_km_s = self._arc_start_states
+        dt_s = (times - self._arc_starts[index]) / np.timedelta64(1, "ms") / 1000.0
+        return propagate(r0_km[index], v0_km_s[index], dt_s, mu)
+
+    def _refuse_unless_orbit(self, k: int) -> None:
+        """The refusal ``_coast_many`` makes (no elements, no coast), once per arc: it depends
+        on the arc's start state alone."""
+        if k not in self._arcs_with_elements:
+            arc = self.arcs[k]
+            state_to_elements(arc.r_start_km, arc.v_start_km_s, self.body.mu_km3_s2)
+            self._arcs_with_elements.add(k)
+
+    @functools.cached_property
+    def _arcs_with_elements(self) -> set[int]:
+        return set()
+
+    @functools.cached_property
+    def _arc_start_states(self) -> tuple[np.ndarray, np.ndarray]:
+        r0_km = np.array([np.asarray(arc.r_start_km, dtype=float) for arc in self.arcs])
+        v0_km_s = np.array([np.asarray(arc.v_start_km_s, dtype=float) for arc in self.arcs])
+        return r0_km, v0_km_s
+
+    @functools.cached_property
+    def _arc_starts(self) -> np.ndarray:
+        return np.array([arc.start for arc in self.arcs], dtype="datetime64[ms]")
+
+    @functools.cached_property
+    def _arc_starts_ordered(self) -> bool:
+        # Overlapping burns can put an impulse before the previous one's.
+        starts = self._arc_starts
+        return bool(np.all(starts[1:] >= starts[:-1]))
+
+    def _arc_index_one(self, time: np.datetime64) -> int:
+        """Index of the last arc that has started at ``time`` (arc 0 before the plan epoch)."""
+        starts = self._arc_starts
+        if self._arc_starts_ordered:
+            return max(int(np.searchsorted(starts, time, side="right")) - 1, 0)
+        started = np.flatnonzero(starts <= time)
+        return int(started[-1]) if started.size else 0
 
 
 # A burn longer than this, or sweeping a whole orbit, is no impulse at all: the burn-duration
@@ -191,10 +270,12 @@ def _finite_burn_out_of_reach(duration_s: float, burn_arc_rad: float) -> str | N
     return None
 
 
-def _coast(r_km, v_km_s, dt_s: float, body: Body, coast_model: CoastModel):
+def _coast(r_km, v_km_s, dt_s: float, body: Body, coast_model: CoastModel, elements=None):
     if dt_s == 0.0:
         return np.array(r_km, dtype=float), np.array(v_km_s, dtype=float)
-    closed = state_to_elements(r_km, v_km_s, body.mu_km3_s2).e < 1.0
+    if elements is None:
+        elements = state_to_elements(r_km, v_km_s, body.mu_km3_s2)
+    closed = elements.e < 1.0
     if coast_model == "j2-secular" and closed:
         return propagate_j2_secular(r_km, v_km_s, dt_s, body)
     return propagate(r_km, v_km_s, dt_s, body.mu_km3_s2)
@@ -219,9 +300,11 @@ def _arc(
     v_start_km_s: np.ndarray,
     end_state: tuple[np.ndarray, np.ndarray] | None,
     body: Body,
+    elements: Elements | None = None,
 ) -> Arc:
     mu = body.mu_km3_s2
-    elements = state_to_elements(r_start_km, v_start_km_s, mu)
+    if elements is None:
+        elements = state_to_elements(r_start_km, v_start_km_s, mu)
     energy = float(specific_energy_km2_s2(r_start_km, v_start_km_s, mu))
     bound = bool(elements.e < 1.0)
     duration = None if end is None else max(float(seconds_between(start, end)), 0.0)
@@ -231,6 +314,7 @@ def _arc(
         duration,
         mu,
         r_end_km=None if end_state is None else end_state[0],
+        elements=elements,
     )
     rp = float(periapsis_radius_km(elements))
     return Arc(
@@ -256,6 +340,43 @@ def _arc(
         if np.isfinite(lowest.time_from_start_s)
         else start,
     )
+
+
+class _ElementsOnce:
+    """``state_to_elements`` of each state the builder passes through, computed once.
+
+    A burn's start state is asked for its elements up to five times (coasts to the
+    ignition and the impulse, the arc's own elements, its lowest point, the burn's swept
+    angle); the answer depends on the state alone. Keyed by the arrays themselves, which
+    the builder never changes in place. ``lazy`` defers the computation to the first use,
+    so that a state the builder would not convert is not converted (nor refused) sooner.
+    """
+
+    def __init__(self, mu_km3_s2: float) -> None:
+        self.mu_km3_s2 = mu_km3_s2
+        self.known: dict[tuple[int, int], tuple[np.ndarray, np.ndarray, Elements]] = {}
+
+    def __call__(self, r_km: np.ndarray, v_km_s: np.ndarray) -> Elements:
+        hit = self.known.get((id(r_km), id(v_km_s)))
+        if hit is not None and hit[0] is r_km and hit[1] is v_km_s:
+            return hit[2]
+        elements = state_to_elements(r_km, v_km_s, self.mu_km3_s2)
+        self.known[(id(r_km), id(v_km_s))] = (r_km, v_km_s, elements)
+        return elements
+
+    def lazy(self, r_km: np.ndarray, v_km_s: np.ndarray) -> _LazyElements:
+        return _LazyElements(self, r_km, v_km_s)
+
+
+class _LazyElements:
+    """The elements of one state, computed by ``_ElementsOnce`` when first read."""
+
+    def __init__(self, cache: _ElementsOnce, r_km: np.ndarray, v_km_s: np.ndarray) -> None:
+        self.cache, self.r_km, self.v_km_s = cache, r_km, v_km_s
+
+    @property
+    def e(self) -> float | np.ndarray:
+        return self.cache(self.r_km, self.v_km_s).e
 
 
 def build_trajectory(
@@ -293,6 +414,7 @@ def build_trajectory(
     arc_start, after, mass_kg = epoch, None, float(initial_mass_kg)
     results: list[BurnResult] = []
     arcs: list[Arc] = []
+    elements_of = _ElementsOnce(body.mu_km3_s2)
     for burn in ordered:
         dv_local = np.asarray(burn.delta_v_m_s, dtype=float)
         dv_m_s = float(np.linalg.norm(dv_local))
@@ -302,19 +424,39 @@ def build_trajectory(
         centre = add_seconds(burn.ignition, duration / 2.0)
         cutoff = add_seconds(burn.ignition, duration)
         coast_s = float(seconds_between(arc_start, centre))
-        r_c, v_before = _coast(r_km, v_km_s, coast_s, body, coast_model)
-        arcs.append(_arc(len(arcs), after, arc_start, centre, r_km, v_km_s, (r_c, v_before), body))
+        r_c, v_before = _coast(
+            r_km, v_km_s, coast_s, body, coast_model, elements_of.lazy(r_km, v_km_s)
+        )
+        arcs.append(
+            _arc(
+                len(arcs),
+                after,
+                arc_start,
+                centre,
+                r_km,
+                v_km_s,
+                (r_c, v_before),
+                body,
+                elements_of(r_km, v_km_s),
+            )
+        )
         dv_inertial = np.asarray(
             local_to_inertial(dv_local, burn.frame, r_c, v_before), dtype=float
         )
         v_after = v_before + dv_inertial / 1000.0
         to_ignition = float(seconds_between(arc_start, burn.ignition))
-        r_ign, v_ign = _coast(r_km, v_km_s, to_ignition, body, coast_model)
+        r_ign, v_ign = _coast(
+            r_km, v_km_s, to_ignition, body, coast_model, elements_of.lazy(r_km, v_km_s)
+        )
         after_centre_s = float(seconds_between(centre, cutoff))
-        r_cut, _ = _coast(r_c, v_after, after_centre_s, body, coast_model)
+        r_cut, _ = _coast(
+            r_c, v_after, after_centre_s, body, coast_model, elements_of.lazy(r_c, v_after)
+        )
         mu = body.mu_km3_s2
         burn_arc = swept_angle_rad(r_ign, v_ign, float(seconds_between(burn.ignition, centre)), mu)
-        burn_arc += swept_angle_rad(r_c, v_after, after_centre_s, mu)
+        burn_arc += swept_angle_rad(
+            r_c, v_after, after_centre_s, mu, elements=elements_of(r_c, v_after)
+        )
         finite, skipped = None, None
         if finite_burns and dv_m_s > 0.0:
             skipped = _finite_burn_out_of_reach(duration, burn_arc)
@@ -354,7 +496,9 @@ def build_trajectory(
         )
         r_km, v_km_s, arc_start, after = r_c, v_after, centre, burn.id
         mass_kg -= propellant
-    arcs.append(_arc(len(arcs), after, arc_start, None, r_km, v_km_s, None, body))
+    arcs.append(
+        _arc(len(arcs), after, arc_start, None, r_km, v_km_s, None, body, elements_of(r_km, v_km_s))
+    )
     return Trajectory(
         body=body,
         epoch=epoch,
