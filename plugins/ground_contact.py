@@ -21,6 +21,7 @@ from collections.abc import Iterator, Mapping, Sequence
 import numpy as np
 
 from service.dynamics.earth_rotation import look_angles
+from service.dynamics.trajectory import burn_end_positions_km
 from service.plugin_api import (
     BurnResult,
     Check,
@@ -97,7 +98,7 @@ class GroundContact(Check):
             return
         epochs = np.array([[b.ignition, b.cutoff] for b in burns], dtype="datetime64[ms]")
         epochs = epochs.reshape(-1)
-        r_km, _ = context.trajectory.states_at(epochs)
+        r_km = burn_end_positions_km(context.trajectory, burns)
         elevation_deg = np.empty((len(stations), epochs.size))
         for row, station in enumerate(stations):  # one vectorised call per station
             elevation_rad, _, _ = look_angles(

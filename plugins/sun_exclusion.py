@@ -23,6 +23,7 @@ import numpy as np
 
 from plugins._sun_window import sun_model_gap
 from service.dynamics.sun import sun_position_from_body_km
+from service.dynamics.trajectory import burn_end_positions_km
 from service.plugin_api import BurnResult, Check, Context, Finding, Parameter, Status, hookimpl
 
 
@@ -82,7 +83,7 @@ class SunExclusion(Check):
         if gap:
             yield Finding(Status.SKIPPED, gap)
             return
-        r_km, _ = trajectory.states_at(epochs)
+        r_km = burn_end_positions_km(trajectory, burns)
         sun_km = np.reshape(sun_position_from_body_km(context.body.name, epochs), (-1, 3))
         thrust = np.repeat(np.array([b.delta_v_inertial_m_s for b in burns], dtype=float), 2, 0)
         alpha = angle_deg(thrust, sun_km - r_km).reshape(len(burns), 2)

@@ -56,12 +56,40 @@ def combined_change_delta_v_km_s(
     sin^2(angle / 2)), which keeps full precision for small angles and near-equal speeds.
     Parameters: speeds km/s (>= 0); ``angle_rad`` rad, in [0, pi].
     """
+    one = _combined_one(v1_km_s, v2_km_s, angle_rad)
+    if one is not None:
+        return one
     v1 = finite("v1_km_s", v1_km_s)
     v2 = finite("v2_km_s", v2_km_s)
     if np.any(v1 < 0.0) or np.any(v2 < 0.0):
         raise ValueError(f"speeds must not be negative, got {v1_km_s!r}, {v2_km_s!r}")
     half = np.sin(0.5 * _angle("angle_rad", angle_rad))
     return scalar_or_array(np.sqrt((v1 - v2) ** 2 + 4.0 * v1 * v2 * half**2))
+
+
+def _number(value) -> float | None:
+    """``value`` as a float when it is one finite float64 number (or int), else None."""
+    if type(value) is float or type(value) is int or isinstance(value, np.float64):
+        number = float(value)
+    elif isinstance(value, np.ndarray) and value.shape == () and value.dtype == np.float64:
+        number = float(value)
+    else:
+        return None
+    return number if math.isfinite(number) else None
+
+
+def _combined_one(v1_km_s, v2_km_s, angle_rad) -> np.float64 | None:
+    """``combined_change_delta_v_km_s`` of single numbers (the split's optimiser asks for one
+    at a time): the same arithmetic, numpy's scalar power for the squares as in the array
+    code, without its per-call checks; None for anything else."""
+    v1, v2, angle = _number(v1_km_s), _number(v2_km_s), _number(angle_rad)
+    if v1 is None or v2 is None or angle is None:
+        return None
+    if v1 < 0.0 or v2 < 0.0 or not 0.0 <= angle <= math.pi:
+        return None
+    half = math.sin(0.5 * angle)
+    square = float(np.float64(v1 - v2) ** 2) + 4.0 * v1 * v2 * float(np.float64(half) ** 2)
+    return np.float64(math.sqrt(square))
 
 
 @dataclass(frozen=True)

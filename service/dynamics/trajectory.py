@@ -253,6 +253,36 @@ class Trajectory:
         return int(started[-1]) if started.size else 0
 
 
+def burn_end_positions_km(trajectory: Trajectory, burns: Sequence[BurnResult]) -> np.ndarray:
+    """Positions (2N, 3) km at each burn's ignition and cutoff: ``states_at`` of those epochs.
+
+    The builder has already coasted there: a burn's ``r_ignition_km`` is its arc's start
+    state coasted to the ignition, and ``r_cutoff_km`` the post-impulse state coasted to the
+    cutoff, the very coasts ``states_at`` makes when the ignition lies on the burn's own arc
+    and the cutoff on the next (the usual case; overlapping burns are not). Those are read
+    from the burns, the rest computed by ``states_at``; two-body coasts only.
+    """
+    epochs = np.array([[b.ignition, b.cutoff] for b in burns], dtype="datetime64[ms]")
+    epochs = epochs.reshape(-1)
+    if trajectory.coast_model != "two-body" or not burns:
+        return trajectory.states_at(epochs)[0]
+    own = {id(burn): index for index, burn in enumerate(trajectory.maneuvers)}
+    r_km = np.empty((epochs.size, 3))
+    missing = []
+    for row, burn in enumerate(burns):
+        k = own.get(id(burn), -2)  # -2: not one of this trajectory's burns
+        ends = ((burn.ignition, k, burn.r_ignition_km), (burn.cutoff, k + 1, burn.r_cutoff_km))
+        for column, (epoch, arc_index, r_end_km) in enumerate(ends):
+            at = 2 * row + column
+            if k >= 0 and trajectory._arc_index_one(np.datetime64(epoch, "ms")) == arc_index:
+                r_km[at] = r_end_km
+            else:
+                missing.append(at)
+    if missing:
+        r_km[missing] = trajectory.states_at(epochs[missing])[0]
+    return r_km
+
+
 # A burn longer than this, or sweeping a whole orbit, is no impulse at all: the burn-duration
 # check fails it on its arc, and integrating it would cost time without bound.
 MAX_FINITE_BURN_S = 86400.0

@@ -220,6 +220,10 @@ class _Run:
         # (index, monotonic start, budget, finished) of the check most recently started.
         self.current: tuple[int, float, float, bool] | None = None
         self.caller_wakes_at = math.inf
+        # Before the first check starts, the earliest its budget can run out (with a clock
+        # that runs on, as time.monotonic does): the caller sleeps until then unless the
+        # worker, finding an earlier deadline, wakes it.
+        self.first_wake = time.monotonic() + min(check_budget_s, request_budget_s)
         self.generation = 0
         self.finished = False
         self.raised: BaseException | None = None
@@ -227,6 +231,17 @@ class _Run:
 
     def drive(self, generation: int) -> bool:
         """Run the checks from ``next_index`` on; False when the caller gave up on this worker."""
+        try:
+            return self._drive(generation)
+        except BaseException as error:  # the clock or the bookkeeping failed: the caller raises
+            with self.lock:
+                if self.generation != generation:
+                    return False
+                self.raised, self.finished = error, True
+                self.changed.notify_all()
+            return True
+
+    def _drive(self, generation: int) -> bool:
         while True:
             with self.lock:
                 if self.generation != generation:
@@ -281,7 +296,10 @@ class _Run:
             while not self.finished:
                 now = time.monotonic()
                 current = self.current
-                if current is None or current[3]:
+                if current is None:
+                    # Past that time, wait for the worker to say when its check started.
+                    wakes_at = self.first_wake if now < self.first_wake else math.inf
+                elif current[3]:
                     wakes_at = math.inf
                 else:
                     index, started, budget, _ = current
@@ -290,7 +308,7 @@ class _Run:
                         message = f"check did not finish within its {budget:.3g} s time budget"
                         self.results[index] = [_error(self.entries[index].check.id, message)]
                         self.generation += 1
-                        self.current = None
+                        self.current, self.first_wake = None, math.inf
                         job.abandoned = True
                         worker, job = _take_worker(), _Drive(self, self.generation)
                         worker.jobs.put(job)
