@@ -40,6 +40,7 @@ import re
 import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from functools import cached_property
 from importlib.resources import files
 from pathlib import Path
 
@@ -122,8 +123,9 @@ class Profile:
     def document(self) -> dict:
         return {**self.rules_document(), "source": self.origin}
 
-    @property
+    @cached_property
     def digest(self) -> str:
+        """Taken once: a profile is not changed after it is read (every request reads it)."""
         return plan_digest(self.rules_document())
 
     def enabled_checks(self, registry: Registry) -> list[str]:
