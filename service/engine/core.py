@@ -12,7 +12,9 @@ import numpy as np
 from service.dynamics.bodies import Body, body_named
 from service.dynamics.elements import elements_from_semi_major_axis, elements_to_state
 from service.dynamics.trajectory import BurnSpec, EngineSpec, Trajectory, build_trajectory
+from service.engine.budget import ComputeBudget
 from service.engine.errors import EngineNotReady, PlanInvalid
+from service.engine.observe import CheckObserver
 from service.engine.plan import CartesianState, GroundStation, Plan
 from service.engine.profiles import Profile, Thresholds, load_profiles, resolve_thresholds
 from service.engine.registry import PluginPolicy, Registry, build_registry
@@ -115,8 +117,22 @@ class Engine:
         if not self.ready:
             raise EngineNotReady(self.problems or ["no checks are registered"])
 
-    def validate(self, plan: Plan, *, profile: str | None = None) -> dict:
-        """The report for ``plan`` under ``profile`` (default: the plan's own)."""
+    def validate(
+        self,
+        plan: Plan,
+        *,
+        profile: str | None = None,
+        budget: ComputeBudget | None = None,
+        observer: CheckObserver | None = None,
+    ) -> dict:
+        """The report for ``plan`` under ``profile`` (default: the plan's own).
+
+        ``budget`` (optional) is the face's compute budget for the whole validation:
+        ``ComputeBudgetExceeded`` when it is spent before the trajectory build or by it;
+        otherwise what is left caps the profile's request budget for the checks.
+        ``observer`` (optional) is told each check's outcome and time
+        (``service.engine.observe``); the report is the same with or without it.
+        """
         self._require_ready()
         name = profile or plan.profile
         chosen = self.profiles.get(name)
@@ -131,7 +147,15 @@ class Engine:
         if errors:
             raise PlanInvalid(errors)
         body = body_named(plan.central_body)
+        if budget is not None:
+            budget.require("it was spent before the trajectory build")
         trajectory = fly(plan, body)
+        request_budget_s, budget_label = chosen.request_time_budget_s, None
+        if budget is not None:
+            left_s = budget.require("the trajectory build ran past it, leaving the checks no time")
+            if left_s < request_budget_s:
+                request_budget_s = left_s
+                budget_label = f"{budget.seconds:.3g} s compute budget"
         context = Context(
             plan=plan,
             body=body,
@@ -147,7 +171,9 @@ class Engine:
             context,
             thresholds,
             check_budget_s=chosen.check_time_budget_s,
-            request_budget_s=chosen.request_time_budget_s,
+            request_budget_s=request_budget_s,
+            request_budget_label=budget_label,
+            observer=observer,
         )
         return build_report(
             plan,

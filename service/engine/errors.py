@@ -19,3 +19,22 @@ class EngineNotReady(Exception):
     def __init__(self, problems: list[str]) -> None:
         self.problems = list(problems)
         super().__init__("; ".join(self.problems) or "not ready")
+
+
+class ComputeBudgetExceeded(Exception):
+    """A validation ran past the face's compute budget before its checks could get any time.
+
+    Raised by the engine when the budget was already spent before the trajectory build, or
+    when the build ran past it (the checks would be left with no time). ``budget_s`` is the
+    whole budget in seconds, ``elapsed_s`` the time spent when it was found out, ``stage``
+    says where, in words. The faces turn it into a 503 problem (HTTP) or exit code 2 (CLI).
+    """
+
+    def __init__(self, budget_s: float, elapsed_s: float, stage: str) -> None:
+        self.budget_s = float(budget_s)
+        self.elapsed_s = float(elapsed_s)
+        self.stage = stage
+        super().__init__(
+            f"validating this plan did not finish within the {self.budget_s:.3g} s compute "
+            f"budget: {stage} ({self.elapsed_s:.3g} s elapsed)"
+        )

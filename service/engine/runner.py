@@ -15,10 +15,16 @@ fresh worker carries on with the next check.
 Findings are ordered by plan position (plan-wide
 first, then by burn, each arc with the burn that opened it), then check id, then the
 order the check emitted them: never by plugin registration order.
+
+An optional observer (``service.engine.observe``) is told each check's outcome, time,
+and the exception of a check that raised, so a face can log the traceback with the check
+id. The runner itself logs nothing: the command line promises one line per problem on
+stderr, never a traceback, and the error finding already says what went wrong.
 """
 
 from __future__ import annotations
 
+import logging
 import math
 import os
 import queue
@@ -26,12 +32,17 @@ import threading
 import time
 from collections.abc import Callable, Mapping
 
+from service.engine.observe import CheckObserver, CheckRun, count_by_status
 from service.engine.registry import RegisteredCheck
 from service.plugin_api import Context, Finding, Status
 
 
 def _error(check_id: str, message: str) -> Finding:
     return Finding(status=Status.ERROR, message=message, check=check_id)
+
+
+def _raised(check_id: str, error: Exception) -> Finding:
+    return _error(check_id, f"check failed: {type(error).__name__}: {error}")
 
 
 def _finding_fault(item: object, maneuver_ids: set[str], arc_count: int) -> str | None:
@@ -166,19 +177,23 @@ def run_check(
     except _Overran:
         return [_error(check_id, f"check did not finish within its {budget_s:.3g} s time budget")]
     except Exception as error:
-        return [_error(check_id, f"check failed: {type(error).__name__}: {error}")]
-    return _accepted(check_id, items, context)
+        return [_raised(check_id, error)]
+    return _accepted(check_id, items, context)[0]
 
 
-def _accepted(check_id: str, items: list, context: Context) -> list[Finding]:
-    """What a check returned, checked against the contract and stamped with its id."""
+def _accepted(check_id: str, items: list, context: Context) -> tuple[list[Finding], bool]:
+    """What a check returned, checked against the contract and stamped with its id.
+
+    The flag is True when the check broke the contract (the findings are then its one
+    ``error`` finding saying how).
+    """
     maneuver_ids = {burn.id for burn in context.trajectory.maneuvers}
     arc_count = len(context.trajectory.arcs)
     findings = []
     for item in items:
         fault = _finding_fault(item, maneuver_ids, arc_count)
         if fault:
-            return [_error(check_id, f"check broke its contract: it {fault}")]
+            return [_error(check_id, f"check broke its contract: it {fault}")], True
         findings.append(
             Finding(
                 status=item.status,
@@ -192,8 +207,8 @@ def _accepted(check_id: str, items: list, context: Context) -> list[Finding]:
             )
         )
     if not findings:
-        return [Finding(Status.SKIPPED, "check returned no findings", check=check_id)]
-    return findings
+        return [Finding(Status.SKIPPED, "check returned no findings", check=check_id)], False
+    return findings, False
 
 
 class _Run:
@@ -203,19 +218,24 @@ class _Run:
     only when a check's budget runs out: one thread handoff per request instead of two per
     check. A check that overruns is given up as before (an ``error`` finding), its worker is
     abandoned, and a fresh worker carries on with the next check. ``lock`` guards every
-    field; ``generation`` names the worker whose results still count.
+    field; ``generation`` names the worker whose results still count. ``runs`` holds each
+    check's ``CheckRun`` when an observer wants them, else it is None and nothing is timed.
     """
 
-    def __init__(self, entries, context, thresholds, check_budget_s, request_budget_s, clock):
+    def __init__(
+        self, entries, context, thresholds, check_budget_s, request_budget_s, clock, label, timed
+    ):
         self.entries, self.context, self.thresholds = entries, context, thresholds
         self.check_budget_s, self.request_budget_s, self.clock = (
             check_budget_s,
             request_budget_s,
             clock,
         )
+        self.budget_label = label or f"{request_budget_s:.3g} s time budget"
         self.lock = threading.Lock()
         self.changed = threading.Condition(self.lock)
         self.results: list[list[Finding] | None] = [None] * len(entries)
+        self.runs: list[CheckRun | None] | None = [None] * len(entries) if timed else None
         self.next_index = 0
         # (index, monotonic start, budget, finished) of the check most recently started.
         self.current: tuple[int, float, float, bool] | None = None
@@ -255,22 +275,36 @@ class _Run:
                 entry = self.entries[index]
                 left = self.deadline - self.clock()
                 if left <= 0.0:
-                    message = (
-                        "check not run: the request's "
-                        f"{self.request_budget_s:.3g} s time budget ran out"
-                    )
+                    message = f"check not run: the request's {self.budget_label} ran out"
                     self.results[index] = [_error(entry.check.id, message)]
+                    if self.runs is not None:
+                        self.runs[index] = _not_ok(entry.check.id, 0.0, "not_run", message)
                     continue
                 budget = min(self.check_budget_s, left)
                 started = time.monotonic()
                 self.current = (index, started, budget, False)
                 if started + budget < self.caller_wakes_at:
                     self.changed.notify_all()  # the caller must wake sooner for this one
-            findings, raised = self._evaluate(entry)
+            if self.runs is None:
+                findings, raised, outcome, failure = self._evaluate(entry)
+            else:
+                ticked = time.perf_counter()
+                findings, raised, outcome, failure = self._evaluate(entry)
+                seconds = time.perf_counter() - ticked
             with self.lock:
                 if self.generation != generation:
                     return False  # the check overran and its error is already recorded
                 self.results[index] = findings
+                if self.runs is not None and findings is not None:
+                    check_id = entry.check.id
+                    self.runs[index] = CheckRun(
+                        check_id,
+                        seconds,
+                        outcome,
+                        count_by_status(findings),
+                        findings[0].message if outcome == "error" else None,
+                        failure,
+                    )
                 self.current = (index, started, budget, True)
                 if raised is not None:
                     self.raised, self.finished = raised, True
@@ -279,16 +313,19 @@ class _Run:
 
     def _evaluate(
         self, entry: RegisteredCheck
-    ) -> tuple[list[Finding] | None, BaseException | None]:
+    ) -> tuple[list[Finding] | None, BaseException | None, str, Exception | None]:
+        """The check's findings, what it raised that is not its own failure, the outcome,
+        and the exception of a check that raised."""
         check_id = entry.check.id
         params = self.thresholds[check_id]
         try:
             items = list(entry.check.evaluate(self.context, dict(params)))
         except Exception as error:
-            return [_error(check_id, f"check failed: {type(error).__name__}: {error}")], None
+            return [_raised(check_id, error)], None, "error", error
         except BaseException as error:  # not the check's failure: the caller re-raises it
-            return None, error
-        return _accepted(check_id, items, self.context), None
+            return None, error, "error", None
+        findings, broke = _accepted(check_id, items, self.context)
+        return findings, None, "error" if broke else "ok", None
 
     def wait(self, worker: _Worker, job: _Drive) -> None:
         """Sleep until every check has findings; give up on each check that overruns."""
@@ -305,8 +342,13 @@ class _Run:
                     index, started, budget, _ = current
                     wakes_at = started + budget
                     if now >= wakes_at:
+                        check_id = self.entries[index].check.id
                         message = f"check did not finish within its {budget:.3g} s time budget"
-                        self.results[index] = [_error(self.entries[index].check.id, message)]
+                        if budget < self.check_budget_s:
+                            message += f" (what was left of the request's {self.budget_label})"
+                        self.results[index] = [_error(check_id, message)]
+                        if self.runs is not None:
+                            self.runs[index] = _not_ok(check_id, now - started, "timeout", message)
                         self.generation += 1
                         self.current, self.first_wake = None, math.inf
                         job.abandoned = True
@@ -338,20 +380,36 @@ def run_checks(
     check_budget_s: float = math.inf,
     request_budget_s: float = math.inf,
     clock: Callable[[], float] = time.monotonic,
+    request_budget_label: str | None = None,
+    observer: CheckObserver | None = None,
 ) -> list[Finding]:
     """Every check's findings in a deterministic order, within the request's time budget.
 
     Each check gets ``check_budget_s`` or what is left of ``request_budget_s``,
-    whichever is less; a check left without time is an ``error`` finding saying so.
+    whichever is less; a check left without time is an ``error`` finding saying so
+    (``request_budget_label`` names that budget in the message, by default
+    ``"<request_budget_s> s time budget"``). ``observer``, when given, is called with
+    each check's ``CheckRun`` once all are done; it never changes the findings.
     """
     position = {burn.id: index + 1 for index, burn in enumerate(context.trajectory.maneuvers)}
     ordered = sorted(entries, key=lambda e: e.check.id)
-    run = _Run(ordered, context, thresholds, check_budget_s, request_budget_s, clock)
+    run = _Run(
+        ordered,
+        context,
+        thresholds,
+        check_budget_s,
+        request_budget_s,
+        clock,
+        request_budget_label,
+        observer is not None,
+    )
     worker, job = _take_worker(), _Drive(run, 0)
     worker.jobs.put(job)
     run.wait(worker, job)
     if run.raised is not None:
         raise run.raised
+    if run.runs is not None:
+        _tell(observer, run.runs)
     keyed = []
     for findings in run.results:
         for sequence, finding in enumerate(findings or ()):
@@ -363,3 +421,21 @@ def run_checks(
                 where = 0
             keyed.append(((where, finding.check, sequence), finding))
     return [finding for _, finding in sorted(keyed, key=lambda pair: pair[0])]
+
+
+def _not_ok(check_id: str, seconds: float, outcome: str, message: str) -> CheckRun:
+    """The run of a check that became its one ``error`` finding without an exception."""
+    return CheckRun(check_id, seconds, outcome, {"error": 1}, message)  # type: ignore[arg-type]
+
+
+def _tell(observer: CheckObserver, runs: list[CheckRun | None]) -> None:
+    """Hand each run to the observer; an observer that fails is logged, never propagated."""
+    for check_run in runs:
+        if check_run is None:
+            continue
+        try:
+            observer(check_run)
+        except Exception:
+            logging.getLogger("burnproof.engine").exception(
+                "the check observer failed on %s", check_run.check_id
+            )
