@@ -10,6 +10,8 @@ from flask import Flask
 
 from service.engine.core import engine_from_environment
 from service.http import register_http
+from service.http.auth import register_auth
+from service.http.json_provider import StrictJSONProvider
 
 MAX_BODY_BYTES = 1024 * 1024  # CONTRACT.md section 1: a plan body is at most 1 MiB
 
@@ -25,6 +27,7 @@ def create_app(config: Mapping[str, Any] | None = None, *, engine: Any = None) -
     ``MAX_CONTENT_LENGTH`` (default 1 MiB) among them.
     """
     app = Flask(__name__)
+    app.json = StrictJSONProvider(app)
     app.config["MAX_CONTENT_LENGTH"] = MAX_BODY_BYTES
     if config:
         app.config.update(config)
@@ -32,4 +35,5 @@ def create_app(config: Mapping[str, Any] | None = None, *, engine: Any = None) -
         engine = engine_from_environment(os.environ)
     app.extensions["burnproof"] = engine
     register_http(app)
+    register_auth(app, os.environ)  # after the other hooks, so a 401 is still counted and logged
     return app

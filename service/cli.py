@@ -6,8 +6,11 @@
 
 Exit codes: 0 the plan passed or passed with warnings; 1 it failed; 2 it could not
 be read or validated (missing file, malformed JSON, an invalid plan, an engine that
-is not ready), a usage error, or a server that could not start. Problems go to
-stderr as one line each, never as a traceback.
+is not ready, a validation past the compute budget), a usage error, or a server that
+could not start. Problems go to stderr as one line each, never as a traceback.
+
+``validate`` applies a compute budget only when ``BURNPROOF_COMPUTE_BUDGET_S`` is set
+(offline runs are not cut short unless asked); the service always applies one.
 """
 
 from __future__ import annotations
@@ -23,7 +26,9 @@ from typing import Any
 
 from service import __version__
 from service.engine import EngineNotReady, PlanInvalid
+from service.engine.budget import ComputeBudget, budget_from_environment
 from service.engine.core import engine_from_environment
+from service.engine.errors import ComputeBudgetExceeded
 from service.engine.render import catalogue_to_text, to_json_bytes, to_junit, to_text
 from service.schemas import MalformedJson, load_plan, parse_json_bytes
 
@@ -106,15 +111,25 @@ def cmd_validate(args: argparse.Namespace, engine_source: Any) -> int:
         return EXIT_UNUSABLE
     except PlanInvalid as error:
         return _plan_invalid(error)
+    try:
+        budget_s = budget_from_environment(os.environ)
+    except ValueError as error:
+        _say(str(error))
+        return EXIT_UNUSABLE
     engine = _engine(engine_source)
     if not engine.ready:
         return _not_ready(engine.problems)
+    # Only given when set, so an engine double with the plain signature still fits.
+    options = {} if budget_s is None else {"budget": ComputeBudget.start(budget_s)}
     try:
-        report = engine.validate(plan, profile=args.profile)
+        report = engine.validate(plan, profile=args.profile, **options)
     except PlanInvalid as error:
         return _plan_invalid(error)
     except EngineNotReady as error:
         return _not_ready(error.problems)
+    except ComputeBudgetExceeded as error:
+        _say(f"{label}: {error}; raise BURNPROOF_COMPUTE_BUDGET_S to allow more")
+        return EXIT_UNUSABLE
     payload = RENDERERS[args.format](report)
     try:
         _write(payload, args.output)
@@ -147,9 +162,21 @@ def _url(host: str, port: int) -> str:
     return f"http://[{host}]:{port}/" if ":" in host else f"http://{host}:{port}/"
 
 
+def _quiet_handler(base: type) -> type:
+    """werkzeug's request handler without its access line: the app logs one JSON line per
+    request itself (``service.http.logs``), so a second, differently shaped line would only
+    confuse a log pipeline. werkzeug's error lines are kept."""
+
+    class QuietHandler(base):
+        def log_request(self, code: int | str = "-", size: int | str = "-") -> None:
+            return None
+
+    return QuietHandler
+
+
 def cmd_serve(args: argparse.Namespace, engine_source: Any) -> int:
     # Imported here: flask and werkzeug are only needed by the one command that serves.
-    from werkzeug.serving import make_server
+    from werkzeug.serving import WSGIRequestHandler, make_server
 
     from service.app import create_app
 
@@ -159,7 +186,13 @@ def cmd_serve(args: argparse.Namespace, engine_source: Any) -> int:
             _say(f"warning: not ready, /readyz answers 503: {problem}")
     app = create_app(engine=engine)
     try:
-        server = make_server(args.host, args.port, app, threaded=True)
+        server = make_server(
+            args.host,
+            args.port,
+            app,
+            threaded=True,
+            request_handler=_quiet_handler(WSGIRequestHandler),
+        )
     except SystemExit:  # werkzeug has printed why (port taken, address not found) and exits
         _say(f"cannot listen on {args.host}:{args.port}")
         return EXIT_UNUSABLE

@@ -1,72 +1,147 @@
-"""Request and verdict counters in the Prometheus text exposition format (version 0.0.4).
+"""Prometheus metrics of one app, served at ``GET /metrics`` (prometheus_client text format).
 
-Counters live in the process that served the request; behind a multi-worker
-server each worker reports its own (the scraper sums them per pod).
+Names follow the Prometheus naming best practices: one prefix ``burnproof_``, base units
+(seconds), ``_total`` on counters, and only bounded labels (no plan ids, no raw paths):
+
+- ``burnproof_http_requests_total{method,route,status}`` and
+  ``burnproof_http_request_duration_seconds{method,route}`` (histogram): ``route`` is the
+  URL rule template (``/v1/profiles/<name>``), ``(unmatched)`` for any path no rule
+  matched; ``method`` is one of the standard methods or ``OTHER``;
+- ``burnproof_validations_total{verdict}``: reports given, by verdict;
+- ``burnproof_findings_total{check,status}``: findings in those reports;
+- ``burnproof_check_duration_seconds{check}`` (histogram) and
+  ``burnproof_check_errors_total{check,kind}``: ``kind`` is ``error`` (the check raised
+  or broke its contract) or ``timeout`` (it overran its budget, or the request's budget
+  ran out before it could start).
+
+Each app has its own ``CollectorRegistry`` (tests build many apps in one process; the
+library's global default registry is never used). When ``PROMETHEUS_MULTIPROC_DIR`` is
+set, prometheus_client keeps every value in files in that directory, one set per
+process, and ``/metrics`` serves a ``MultiProcessCollector`` over them, so any gunicorn
+worker answers with the sum over all workers (prometheus_client docs, "Multiprocess
+Mode"). The directory must be set before the process imports prometheus_client and be
+emptied when the server starts (``deploy/gunicorn.conf.py`` does both). There are no
+gauges here, so no ``multiprocess_mode`` is needed.
 """
 
 from __future__ import annotations
 
-import threading
-import time
-from collections import defaultdict
+import os
 
-from flask import Flask, Response, g, request
+from flask import Flask, Response
+from prometheus_client import CONTENT_TYPE_LATEST, CollectorRegistry, Counter, Histogram
+from prometheus_client import values as prometheus_values
+from prometheus_client.exposition import generate_latest
+from prometheus_client.multiprocess import MultiProcessCollector
+
+from service.engine.observe import CheckRun
 
 EXTENSION = "burnproof.metrics"
-CONTENT_TYPE = "text/plain; version=0.0.4; charset=utf-8"
+MULTIPROCESS_VARIABLE = "PROMETHEUS_MULTIPROC_DIR"
+UNMATCHED_ROUTE = "(unmatched)"
+# RFC 9110 section 9 methods plus PATCH (RFC 5789); any other token is counted as OTHER, so a
+# client cannot mint label values.
+KNOWN_METHODS = frozenset(
+    {"GET", "HEAD", "POST", "PUT", "DELETE", "CONNECT", "OPTIONS", "TRACE", "PATCH"}
+)
+VERDICTS = ("pass", "warn", "fail")
 
-
-def _escape(value: str) -> str:
-    return value.replace("\\", "\\\\").replace('"', '\\"').replace("\n", "\\n")
+# Requests: a validation takes milliseconds (median about 5 ms without the Monte Carlo
+# check), the Monte Carlo check tens to hundreds of ms, the compute budget 20 s and
+# gunicorn's timeout 30 s: buckets from 1 ms to 30 s, with edges at both limits.
+REQUEST_BUCKETS_S = (
+    0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5, 1.0, 2.5, 5.0, 10.0, 20.0, 30.0
+)  # fmt: skip
+# Checks: most take from a few microseconds to a few ms, the Monte Carlo check longer, the
+# default per-check budget is 5 s: buckets from 0.1 ms to 30 s.
+CHECK_BUCKETS_S = (
+    0.0001, 0.00025, 0.0005, 0.001, 0.0025, 0.005, 0.01, 0.025, 0.05, 0.1, 0.25, 0.5,
+    1.0, 2.5, 5.0, 10.0, 30.0,
+)  # fmt: skip
 
 
 class Metrics:
-    """Thread-safe counters: requests by route and status, time spent, verdicts given."""
+    """The app's metrics and the registry ``/metrics`` serves.
 
-    def __init__(self) -> None:
-        self._lock = threading.Lock()
-        self.requests: dict[tuple[str, str, str], int] = defaultdict(int)
-        self.seconds: dict[tuple[str, str], float] = defaultdict(float)
-        self.verdicts: dict[str, int] = defaultdict(int)
+    ``multiprocess_dir`` is prometheus_client's multiprocess directory, or None for
+    in-process values only.
+    """
 
-    def observe(self, method: str, route: str, status: int, seconds: float) -> None:
-        with self._lock:
-            self.requests[(method, route, str(status))] += 1
-            self.seconds[(method, route)] += seconds
-
-    def verdict(self, verdict: str) -> None:
-        with self._lock:
-            self.verdicts[verdict] += 1
-
-    def exposition(self) -> str:
-        with self._lock:
-            lines = [
-                "# HELP burnproof_http_requests_total HTTP requests answered, by route and status.",
-                "# TYPE burnproof_http_requests_total counter",
-            ]
-            for (method, route, status), count in sorted(self.requests.items()):
-                lines.append(
-                    f'burnproof_http_requests_total{{method="{method}",route="{_escape(route)}",'
-                    f'status="{status}"}} {count}'
+    def __init__(self, multiprocess_dir: str | None = None) -> None:
+        self.registry = CollectorRegistry()
+        self.requests = Counter(
+            "burnproof_http_requests_total",
+            "HTTP requests answered, by method, route template and status code.",
+            ["method", "route", "status"],
+            registry=self.registry,
+        )
+        self.request_seconds = Histogram(
+            "burnproof_http_request_duration_seconds",
+            "Time from the first request hook to the response, by method and route template.",
+            ["method", "route"],
+            buckets=REQUEST_BUCKETS_S,
+            registry=self.registry,
+        )
+        self.validations = Counter(
+            "burnproof_validations_total",
+            "Plans validated, by the report's verdict.",
+            ["verdict"],
+            registry=self.registry,
+        )
+        self.findings = Counter(
+            "burnproof_findings_total",
+            "Findings in the reports given, by check id and status.",
+            ["check", "status"],
+            registry=self.registry,
+        )
+        self.check_seconds = Histogram(
+            "burnproof_check_duration_seconds",
+            "Time one check ran in one validation (for a time-out, the time waited for it).",
+            ["check"],
+            buckets=CHECK_BUCKETS_S,
+            registry=self.registry,
+        )
+        self.check_errors = Counter(
+            "burnproof_check_errors_total",
+            "Checks that became an error finding: kind error (raised, broke the contract) "
+            "or timeout (overran its budget, or the request's budget ran out first).",
+            ["check", "kind"],
+            registry=self.registry,
+        )
+        for verdict in VERDICTS:
+            self.validations.labels(verdict)  # present at 0 before the first report
+        self.exposed = self.registry
+        if multiprocess_dir is not None:
+            if prometheus_values.ValueClass is prometheus_values.MutexValue:
+                raise RuntimeError(
+                    f"{MULTIPROCESS_VARIABLE} was set after prometheus_client was imported; "
+                    "set it in the environment before the process starts"
                 )
-            lines += [
-                "# HELP burnproof_http_request_seconds_total Time spent answering, by route.",
-                "# TYPE burnproof_http_request_seconds_total counter",
-            ]
-            for (method, route), seconds in sorted(self.seconds.items()):
-                lines.append(
-                    f'burnproof_http_request_seconds_total{{method="{method}",'
-                    f'route="{_escape(route)}"}} {seconds:.6f}'
-                )
-            lines += [
-                "# HELP burnproof_validations_total Plans validated, by verdict.",
-                "# TYPE burnproof_validations_total counter",
-            ]
-            for verdict in ("pass", "warn", "fail"):
-                lines.append(
-                    f'burnproof_validations_total{{verdict="{verdict}"}} {self.verdicts[verdict]}'
-                )
-        return "\n".join(lines) + "\n"
+            self.exposed = CollectorRegistry()
+            MultiProcessCollector(self.exposed, path=multiprocess_dir)
+
+    def observe_request(self, method: str, route: str, status: int, seconds: float) -> None:
+        method = method if method in KNOWN_METHODS else "OTHER"
+        self.requests.labels(method, route, str(status)).inc()
+        self.request_seconds.labels(method, route).observe(seconds)
+
+    def observe_validation(self, verdict: str) -> None:
+        if verdict in VERDICTS:
+            self.validations.labels(verdict).inc()
+
+    def observe_check(self, run: CheckRun) -> None:
+        """The engine's observer: one check's time, findings and error (``CheckRun``)."""
+        if run.outcome != "not_run":
+            self.check_seconds.labels(run.check_id).observe(run.seconds)
+        for status, count in run.findings.items():
+            self.findings.labels(run.check_id, status).inc(count)
+        if run.outcome == "error":
+            self.check_errors.labels(run.check_id, "error").inc()
+        elif run.outcome in ("timeout", "not_run"):
+            self.check_errors.labels(run.check_id, "timeout").inc()
+
+    def exposition(self) -> bytes:
+        return generate_latest(self.exposed)
 
 
 def metrics_of(app: Flask) -> Metrics:
@@ -74,22 +149,13 @@ def metrics_of(app: Flask) -> Metrics:
 
 
 def register_metrics(app: Flask) -> None:
-    """Count every request; unmatched paths share one route label so labels stay bounded."""
-    app.extensions[EXTENSION] = Metrics()
+    """Give the app its metrics and the ``/metrics`` route (endpoint name ``metrics``).
 
-    @app.before_request
-    def _start_clock() -> None:
-        g.burnproof_started = time.perf_counter()
-
-    @app.after_request
-    def _count(response: Response) -> Response:
-        started = g.get("burnproof_started", time.perf_counter())
-        route = request.url_rule.rule if request.url_rule is not None else "(unmatched)"
-        metrics_of(app).observe(
-            request.method, route, response.status_code, time.perf_counter() - started
-        )
-        return response
+    Requests are counted by ``service.http.observe``, validations and checks by the
+    validation route through the engine's observer.
+    """
+    app.extensions[EXTENSION] = Metrics(os.environ.get(MULTIPROCESS_VARIABLE) or None)
 
     @app.get("/metrics")
     def metrics() -> Response:
-        return Response(metrics_of(app).exposition(), content_type=CONTENT_TYPE)
+        return Response(metrics_of(app).exposition(), content_type=CONTENT_TYPE_LATEST)

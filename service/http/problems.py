@@ -14,7 +14,7 @@ import logging
 from flask import Flask, Response, current_app, request
 from werkzeug.exceptions import HTTPException, MethodNotAllowed, NotFound, RequestEntityTooLarge
 
-from service.engine.errors import EngineNotReady, PlanInvalid
+from service.engine.errors import ComputeBudgetExceeded, EngineNotReady, PlanInvalid
 from service.engine.render import to_json_bytes
 from service.schemas import MalformedJson
 
@@ -24,6 +24,7 @@ _URN = "urn:burnproof:problem:"
 # status -> (type slug, title) for the problems an HTTP status alone describes.
 _BY_STATUS: dict[int, tuple[str, str]] = {
     400: ("bad-request", "Bad request"),
+    401: ("unauthorized", "Authentication required"),
     404: ("not-found", "Not found"),
     405: ("method-not-allowed", "Method not allowed"),
     413: ("body-too-large", "Request body too large"),
@@ -33,6 +34,10 @@ _BY_STATUS: dict[int, tuple[str, str]] = {
     503: ("not-ready", "Service not ready"),
 }
 MALFORMED_JSON = ("malformed-json", "Malformed JSON")
+COMPUTE_BUDGET_EXCEEDED = ("compute-budget-exceeded", "Compute budget exceeded")
+# RFC 6750 section 3.1 error codes, as problem kinds of their own
+INVALID_TOKEN = ("invalid-token", "Invalid bearer token")
+INVALID_AUTH_REQUEST = ("invalid-authorization", "Malformed Authorization header")
 
 logger = logging.getLogger(__name__)
 
@@ -111,6 +116,10 @@ def _engine_not_ready(error: EngineNotReady) -> Response:
     )
 
 
+def _compute_budget_exceeded(error: ComputeBudgetExceeded) -> Response:
+    return problem(503, str(error), kind=COMPUTE_BUDGET_EXCEEDED, compute_budget_s=error.budget_s)
+
+
 def _unexpected(error: Exception) -> Response:
     logger.exception("unhandled error while answering a request")
     return problem(500, "the service failed to answer this request; the failure has been logged")
@@ -122,4 +131,5 @@ def register_error_handlers(app: Flask) -> None:
     app.register_error_handler(MalformedJson, _malformed_json)
     app.register_error_handler(PlanInvalid, _plan_invalid)
     app.register_error_handler(EngineNotReady, _engine_not_ready)
+    app.register_error_handler(ComputeBudgetExceeded, _compute_budget_exceeded)
     app.register_error_handler(Exception, _unexpected)

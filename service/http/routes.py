@@ -24,7 +24,9 @@ from werkzeug.exceptions import RequestEntityTooLarge, UnsupportedMediaType
 from werkzeug.http import parse_options_header
 
 from service.engine.errors import PlanInvalid
-from service.http.metrics import metrics_of
+from service.http.auth import auth_problems
+from service.http.draining import draining_reason
+from service.http.observe import note_validation, validation_options
 from service.http.problems import encode_json, problem
 from service.schemas import load_plan, parse_json_bytes
 
@@ -99,8 +101,8 @@ def create_validation() -> Response:
     _require_json_body()
     data = parse_json_bytes(_read_body())
     plan = load_plan(data)
-    report = _engine().validate(plan, profile=_profile_override())
-    metrics_of(current_app).verdict(report["verdict"])
+    report = _engine().validate(plan, profile=_profile_override(), **validation_options())
+    note_validation(report)
     return _json(report)
 
 
@@ -142,10 +144,15 @@ def healthz() -> Response:
 
 @bp.get("/readyz")
 def readyz() -> Response:
-    """Readiness: plugins loaded and profiles parsed; a 503 problem naming what is wrong if not."""
+    """Readiness: plugins loaded, profiles parsed, not draining; else a 503 problem saying why."""
     engine = _engine()
-    if engine.ready:
+    draining = draining_reason()
+    config_problems = auth_problems(current_app)  # the HTTP layer's own settings
+    if engine.ready and draining is None and not config_problems:
         return _json({"ready": True})
-    problems = list(engine.problems)
+    problems = list(engine.problems) if not engine.ready else []
+    problems += config_problems
+    if draining is not None:
+        problems.append(draining)
     detail = "the service is not ready: " + ("; ".join(problems) or "start-up did not finish")
-    return problem(503, detail, ready=False, problems=problems)
+    return problem(503, detail, ready=False, draining=draining is not None, problems=problems)

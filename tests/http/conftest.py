@@ -109,7 +109,7 @@ class StubEngine:
         self.problems = list(problems)
         self.fail_with = fail_with
 
-    def validate(self, plan, *, profile=None) -> dict:
+    def validate(self, plan, *, profile=None, **options) -> dict:  # budget, observer: unused
         if self.fail_with is not None:
             raise self.fail_with
         return {"plan_id": plan.plan_id}
