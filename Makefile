@@ -17,8 +17,9 @@ $(STAMP): pyproject.toml
 	touch $(STAMP)
 
 lint: $(STAMP)
-	$(BIN)/ruff check service plugins tests
-	$(BIN)/ruff format --check service plugins tests
+	$(BIN)/ruff check service plugins tests deploy
+	$(BIN)/ruff format --check service plugins tests deploy
+	$(BIN)/bandit -q -c pyproject.toml -r service plugins deploy
 
 # pytest exits 5 when it collected nothing: that is a failure here, never a pass.
 test: lint

@@ -37,6 +37,8 @@ from service.schemas.fields import (
     Vector3,
 )
 from service.schemas.fields import NO_CONTROL_PATTERN as _NO_CONTROL
+from service.schemas.openapi_bodies import NOT_READY, PROBLEM_DETAILS
+from service.schemas.openapi_paths import METHOD_NOT_ALLOWED, SECURITY_SCHEMES, paths
 from service.schemas.report import ScalarValue
 
 JSON_SCHEMA_DIALECT = "https://json-schema.org/draft/2020-12/schema"
@@ -146,110 +148,6 @@ REPORT_COMPONENTS: dict[str, tuple[type[Schema], dict]] = {
         {"title": "burnproof report", "description": "The report (CONTRACT.md section 2)."},
     ),
 }
-_PROBLEM = {
-    "type": "object",
-    "description": "RFC 9457 problem details; 503 adds ready and problems.",
-    "required": ["type", "title", "status", "detail"],
-    "properties": {
-        "type": {"type": "string", "format": "uri-reference"},
-        "title": {"type": "string"},
-        "status": {"type": "integer"},
-        "detail": {"type": "string"},
-        "errors": {
-            "type": "object",
-            "description": "422 only: dotted field path -> messages",
-            "additionalProperties": {"type": "array", "items": {"type": "string"}},
-        },
-        "ready": {"type": "boolean"},
-        "problems": {"type": "array", "items": {"type": "string"}},
-    },
-}
-_OPEN_OBJECT = {"type": "object", "additionalProperties": True}
-_CHECK = {
-    "type": "object",
-    "required": ["id", "version", "source", "summary", "parameters"],
-    "properties": {
-        "id": {"type": "string"},
-        "version": {"type": "string"},
-        "source": {"type": "string", "description": "the module that defines the check"},
-        "distribution": {
-            "type": ["string", "null"],
-            "description": "the installed package that provides it (null: registered in code)",
-        },
-        "distribution_version": {"type": ["string", "null"]},
-        "summary": {"type": "string"},
-        "profiles": {
-            "type": "array",
-            "items": {"type": "string"},
-            "description": "the profiles that enable this check",
-        },
-        "parameters": {
-            "type": "array",
-            "items": {
-                "type": "object",
-                "required": ["name", "default", "unit"],
-                "properties": {
-                    "name": {"type": "string"},
-                    "default": {"type": ["number", "boolean", "string", "null"]},
-                    "unit": {"type": "string"},
-                    "stricter": {"enum": ["higher", "lower", None]},
-                    "description": {"type": "string"},
-                    "choices": {
-                        "type": ["array", "null"],
-                        "items": {"type": "string"},
-                        "description": "the allowed values of a string parameter (null: any)",
-                    },
-                    "minimum": {
-                        "type": ["number", "null"],
-                        "description": "the smallest value a profile or request may give "
-                        "(inclusive; null: unbounded)",
-                    },
-                    "maximum": {
-                        "type": ["number", "null"],
-                        "description": "the largest value a profile or request may give "
-                        "(inclusive; null: unbounded)",
-                    },
-                },
-            },
-        },
-    },
-}
-_PROFILE = {
-    "type": "object",
-    "required": ["name", "thresholds"],
-    "properties": {
-        "name": {"type": "string"},
-        "description": {"type": "string"},
-        "allow_loosening": {"type": "boolean"},
-        "check_time_budget_s": {"type": "number", "exclusiveMinimum": 0},
-        "request_time_budget_s": {"type": "number", "exclusiveMinimum": 0},
-        "source": {"type": "string", "description": "the file it was read from, or built-in"},
-        "enabled": {
-            "type": ["array", "null"],
-            "items": {"type": "string"},
-            "description": "the checks this profile runs; null means every registered check",
-        },
-        "thresholds": {"type": "object", "description": "check id -> parameter -> value"},
-        "reasons": {
-            "type": "object",
-            "description": "check id -> parameter -> why this threshold, with its source",
-        },
-        "stations": {
-            "type": "array",
-            "description": "the site's ground-station network, given to every check with the "
-            "plan's own ground_stations",
-            "items": {"$ref": _REF + "GroundStation"},
-        },
-        "digest": {"type": "string", "pattern": "^sha256:[0-9a-f]{64}$"},
-    },
-}
-_PROFILE_QUERY = {
-    "name": "profile",
-    "in": "query",
-    "required": False,
-    "description": "the profile to validate against, instead of the plan's own profile field",
-    "schema": {"type": "string", "minLength": 1},
-}
 
 
 def _strict_field_attributes(self, field: fields.Field, **kwargs) -> dict:
@@ -296,93 +194,6 @@ def _strict_field_attributes(self, field: fields.Field, **kwargs) -> dict:
     return out
 
 
-def _json(content_type: str, ref: str) -> dict:
-    return {content_type: {"schema": {"$ref": _REF + ref}}}
-
-
-def _problem(description: str) -> dict:
-    return {"description": description, "content": _json("application/problem+json", "Problem")}
-
-
-def _ok(description: str, schema: dict) -> dict:
-    return {
-        "200": {"description": description, "content": {"application/json": {"schema": schema}}}
-    }
-
-
-def _get(operation_id: str, summary: str, responses: dict, **extra: object) -> dict:
-    return {
-        "get": {"operationId": operation_id, "summary": summary, "responses": responses, **extra}
-    }
-
-
-def _listing(key: str, item: dict) -> dict:
-    return {
-        "type": "object",
-        "required": [key],
-        "properties": {key: {"type": "array", "items": item}},
-    }
-
-
-def _paths() -> dict[str, dict]:
-    not_ready = _problem("the service is not ready (a plugin failed to load, no checks)")
-    name = {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}}
-    validation = {
-        "operationId": "createValidation",
-        "summary": "Validate one plan; 200 with the report whatever the verdict",
-        "parameters": [_PROFILE_QUERY],
-        "requestBody": {"required": True, "content": _json("application/json", "Plan")},
-        "responses": {
-            "200": {"description": "the report", "content": _json("application/json", "Report")},
-            "400": _problem("the body is not strict UTF-8 JSON"),
-            "413": _problem("the body is larger than 1 MiB"),
-            "415": _problem("the body is not application/json"),
-            "422": _problem(
-                "the plan breaks the schema, names an unknown profile, or loosens a rule it "
-                "may not; errors maps dotted field paths to messages"
-            ),
-            "503": not_ready,
-        },
-    }
-    metrics = {
-        "200": {"description": "metrics", "content": {"text/plain": {"schema": {"type": "string"}}}}
-    }
-    return {
-        "/v1/validations": {"post": validation},
-        "/v1/checks": _get(
-            "listChecks", "Every registered check", _ok("the checks", _listing("checks", _CHECK))
-        ),
-        "/v1/profiles": _get(
-            "listProfiles",
-            "The flight-rule profiles",
-            _ok("the profiles", _listing("profiles", _PROFILE)),
-        ),
-        "/v1/profiles/{name}": _get(
-            "getProfile",
-            "One profile and its thresholds",
-            {**_ok("the profile", _PROFILE), "404": _problem("no such profile")},
-            parameters=[name],
-        ),
-        "/openapi.json": _get("getOpenapi", "This document", _ok("OpenAPI 3.1", _OPEN_OBJECT)),
-        "/healthz": _get(
-            "healthz",
-            "Liveness",
-            _ok(
-                "the process answers", {"type": "object", "properties": {"status": {"const": "ok"}}}
-            ),
-        ),
-        "/readyz": _get(
-            "readyz",
-            "Readiness: plugins loaded, profiles parsed",
-            {
-                **_ok("ready", {"type": "object", "properties": {"ready": {"const": True}}}),
-                "503": not_ready,
-            },
-        ),
-        "/metrics": _get("metrics", "Prometheus text format", metrics),
-    }
-
-
 def _sorted(document: dict) -> dict:
     return json.loads(json.dumps(document, sort_keys=True))
 
@@ -398,14 +209,21 @@ def openapi_document() -> dict:
         info={
             "description": "Checks a spacecraft's orbit-maneuver plan against flight rules "
             "before uplink. Results support, and never replace, the operator's own flight "
-            "rules and approval process."
+            "rules and approval process. A method a path does not list answers 405 "
+            "(components.responses.MethodNotAllowed, with Allow); an unknown path 404."
         },
     )
     plugin.converter.add_attribute_function(_strict_field_attributes)
     for name, (schema, extra) in {**PLAN_COMPONENTS, **REPORT_COMPONENTS}.items():
         spec.components.schema(name, dict(extra), schema=schema)
-    spec.components.schema("Problem", _PROBLEM)
-    for path, operations in _paths().items():
+    spec.components.schema("ProblemDetails", PROBLEM_DETAILS)
+    # the name earlier documents gave it, kept so generated clients keep compiling
+    spec.components.schema("Problem", {"$ref": _REF + "ProblemDetails"})
+    spec.components.schema("NotReady", NOT_READY)
+    for name, scheme in SECURITY_SCHEMES.items():
+        spec.components.security_scheme(name, scheme)
+    spec.components.response("MethodNotAllowed", METHOD_NOT_ALLOWED)
+    for path, operations in paths().items():
         spec.path(path=path, operations=operations)
     return _sorted(spec.to_dict())
 

@@ -91,10 +91,43 @@ def test_openapi_document_lists_the_contract_endpoints() -> None:
         "$ref": "#/components/schemas/Plan"
     }
     responses = post["responses"]
-    assert set(responses) == {"200", "400", "413", "415", "422", "503"}
+    assert set(responses) == {"200", "400", "401", "413", "415", "422", "500", "503"}
     assert responses["200"]["content"]["application/json"]["schema"]["$ref"].endswith("/Report")
-    for status in ("400", "413", "415", "422", "503"):
-        assert "application/problem+json" in responses[status]["content"]
+    for status in ("400", "401", "413", "415", "422", "500", "503"):
+        schema = responses[status]["content"]["application/problem+json"]["schema"]
+        assert schema == {"$ref": "#/components/schemas/ProblemDetails"}
+    assert post["security"] == [{"bearerAuth": []}]
+
+
+def test_every_response_is_documented_with_its_headers() -> None:
+    document = openapi_document()
+    assert document["components"]["securitySchemes"]["bearerAuth"] == {
+        **document["components"]["securitySchemes"]["bearerAuth"],
+        "type": "http",
+        "scheme": "bearer",
+    }
+    for path, item in document["paths"].items():
+        for method, operation in item.items():
+            responses = operation["responses"]
+            assert "500" in responses, (method, path)
+            for status, response in responses.items():
+                assert response["headers"]["X-Request-ID"]["required"] is True, (path, status)
+                if status != "200":
+                    assert list(response["content"]) == ["application/problem+json"]
+            if path.startswith("/v1/"):
+                assert operation["security"] == [{"bearerAuth": []}], path
+                assert "WWW-Authenticate" in responses["401"]["headers"]
+            elif path == "/metrics":
+                assert operation["security"] == [{}, {"bearerAuth": []}]
+                assert "401" in responses
+            else:
+                assert "security" not in operation and "401" not in responses, path
+    readyz = document["paths"]["/readyz"]["get"]["responses"]
+    assert readyz["503"]["content"]["application/problem+json"]["schema"]["$ref"].endswith(
+        "/NotReady"
+    )
+    not_allowed = document["components"]["responses"]["MethodNotAllowed"]
+    assert not_allowed["headers"]["Allow"]["required"] is True
 
 
 def test_every_openapi_reference_resolves() -> None:
