@@ -1,0 +1,1 @@
+"""Tests of the deploy/ directory: gunicorn settings, container, Kubernetes manifests, processes."""
