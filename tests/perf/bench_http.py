@@ -1,8 +1,9 @@
 """Benchmark: the HTTP service under gunicorn, validation against the /healthz floor.
 
 Run with ``.venv/bin/python tests/perf/bench_http.py`` (or ``make bench``). A script, not a
-test: nothing here asserts a timing. It starts ``python -m gunicorn --bind 127.0.0.1:<free
-port> --workers 2 service.wsgi:app`` (127.0.0.1 only), waits for ``GET /healthz``, and then
+test: nothing here asserts a timing. It starts ``python -m gunicorn -c deploy/gunicorn.conf.py
+service.wsgi:app`` with two workers on 127.0.0.1 (request logs and metrics on, as deployed;
+authentication off), waits for ``GET /healthz``, and then
 runs a bounded client loop with ``http.client``: a fixed number of rounds, each one
 ``GET /healthz`` and one ``POST /v1/validations`` with the demo plan, so that both are
 measured side by side under the same conditions. The connection is kept alive where the
@@ -34,6 +35,7 @@ import time
 from _bench import DISPERSION_CHECK, ROOT, demo_plan_json, machine, percentile_ms, verdict
 
 HOST = "127.0.0.1"
+CONF = ROOT / "deploy" / "gunicorn.conf.py"
 
 
 def free_port() -> int:
@@ -43,20 +45,22 @@ def free_port() -> int:
 
 
 def start_gunicorn(port: int, extra_env: dict[str, str]) -> subprocess.Popen:
-    env = {**os.environ, **extra_env}
-    command = [
-        sys.executable,
-        "-m",
-        "gunicorn",
-        "--bind",
-        f"{HOST}:{port}",
-        "--workers",
-        "2",
-        "--log-level",
-        "warning",
-        "service.wsgi:app",
-    ]
-    return subprocess.Popen(command, cwd=ROOT, env=env, start_new_session=True)
+    """gunicorn as deployed (deploy/gunicorn.conf.py), two workers, on 127.0.0.1:port.
+
+    The app's JSON request log lines (one per request, part of what is measured) go to
+    ``os.devnull`` so they do not drown the table.
+    """
+    env = {
+        **os.environ,
+        "BURNPROOF_BIND": f"{HOST}:{port}",
+        "BURNPROOF_WORKERS": "2",
+        **extra_env,
+    }
+    env.pop("PROMETHEUS_MULTIPROC_DIR", None)  # per-process metrics: no shared files to clean
+    command = [sys.executable, "-m", "gunicorn", "-c", str(CONF), "service.wsgi:app"]
+    return subprocess.Popen(
+        command, cwd=ROOT, env=env, start_new_session=True, stderr=subprocess.DEVNULL
+    )
 
 
 def stop(server: subprocess.Popen) -> None:
@@ -150,7 +154,7 @@ def main() -> None:
     parser.add_argument("--rounds", type=int, default=500)
     parser.add_argument("--warm-up", type=int, default=20)
     args = parser.parse_args()
-    print("bench_http: gunicorn --workers 2 service.wsgi:app on 127.0.0.1, one client")
+    print("bench_http: gunicorn -c deploy/gunicorn.conf.py, 2 workers, 127.0.0.1, one client")
     print(machine())
     run("every installed check (as deployed)", {}, args.rounds, args.warm_up)
     run(
