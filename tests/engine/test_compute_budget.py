@@ -1,7 +1,6 @@
 """The compute budget: checked around the trajectory build, capping the checks, in both faces."""
 
 import json
-import threading
 
 import pytest
 
@@ -13,23 +12,9 @@ from service.engine.budget import (
 )
 from service.engine.errors import ComputeBudgetExceeded
 from service.engine.render import to_json_bytes
-from service.plugin_api import Finding, Status
 from tests.cli.helpers import gate_engine, plan_with
+from tests.engine.hanging import hangs, release_hung_checks  # noqa: F401 (autouse)
 from tests.engine.test_engine import _engine, _Fixed, _ok
-
-RELEASE = threading.Event()
-
-
-def _hangs(context, params):
-    RELEASE.wait(30.0)  # released by the fixture, so no thread outlives the test
-    return [Finding(Status.PASS, "late")]
-
-
-@pytest.fixture(autouse=True)
-def _release_hung_checks():
-    RELEASE.clear()
-    yield
-    RELEASE.set()
 
 
 def _clock(*readings):
@@ -89,7 +74,7 @@ def test_a_build_that_runs_past_the_budget_is_refused(plan):
 
 
 def test_what_is_left_caps_the_checks_and_an_overrun_is_an_error_finding(plan):
-    engine = _engine(_Fixed("a-hangs", _hangs), _Fixed("b-good", _ok))
+    engine = _engine(_Fixed("a-hangs", hangs), _Fixed("b-good", _ok))
     # 1 s budget, 0.7 s of it gone by the end of the build: the checks share the last 0.3 s.
     budget = ComputeBudget.start(1.0, clock=_clock(0.0, 0.0, 0.7))
     report = engine.validate(plan, budget=budget)

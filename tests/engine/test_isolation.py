@@ -1,28 +1,12 @@
 """Plugin isolation: time budgets per check and per request, allow and deny lists."""
 
-import threading
-
 import pytest
 
 from service.engine.registry import PluginPolicy
 from service.engine.runner import run_checks
-from service.plugin_api import Context, Finding, Status
+from service.plugin_api import Context, Status
+from tests.engine.hanging import hangs, release_hung_checks  # noqa: F401 (autouse)
 from tests.engine.test_engine import _engine, _Fixed, _ok
-
-RELEASE = threading.Event()
-
-
-def _hangs(context, params):
-    # Blocks until the test releases it, so no thread outlives the test run.
-    RELEASE.wait(30.0)
-    return [Finding(Status.PASS, "late")]
-
-
-@pytest.fixture(autouse=True)
-def _release_hung_checks():
-    RELEASE.clear()
-    yield
-    RELEASE.set()
 
 
 def _context(engine, plan):
@@ -34,7 +18,7 @@ def _context(engine, plan):
 
 
 def test_a_hanging_check_overruns_its_budget_and_the_rest_still_report(plan):
-    engine = _engine(_Fixed("hangs-forever", _hangs), _Fixed("good-one", _ok))
+    engine = _engine(_Fixed("hangs-forever", hangs), _Fixed("good-one", _ok))
     entries = list(engine.registry.checks.values())
     thresholds = {entry.check.id: {"limit_km": 100.0} for entry in entries}
     findings = run_checks(entries, _context(engine, plan), thresholds, check_budget_s=0.2)
@@ -45,7 +29,7 @@ def test_a_hanging_check_overruns_its_budget_and_the_rest_still_report(plan):
 
 
 def test_checks_left_without_request_time_are_errors_not_silence(plan):
-    engine = _engine(_Fixed("a-hangs", _hangs), _Fixed("b-good", _ok), _Fixed("c-good", _ok))
+    engine = _engine(_Fixed("a-hangs", hangs), _Fixed("b-good", _ok), _Fixed("c-good", _ok))
     entries = list(engine.registry.checks.values())
     thresholds = {entry.check.id: {"limit_km": 100.0} for entry in entries}
     ticks = iter([0.0, 0.0, 10.0, 10.0, 10.0])  # the clock jumps past the budget after check a
@@ -65,7 +49,7 @@ def test_checks_left_without_request_time_are_errors_not_silence(plan):
 
 
 def test_the_profile_budget_reaches_the_runner_through_validate(plan):
-    engine = _engine(_Fixed("hangs-forever", _hangs), _Fixed("good-one", _ok))
+    engine = _engine(_Fixed("hangs-forever", hangs), _Fixed("good-one", _ok))
     profile = engine.profiles["default"]
     engine.profiles["default"] = type(profile)(
         **{**profile.__dict__, "check_time_budget_s": 0.2, "request_time_budget_s": 5.0}

@@ -8,7 +8,6 @@ import os
 import subprocess
 import sys
 import textwrap
-import threading
 from pathlib import Path
 
 import pytest
@@ -18,12 +17,11 @@ from prometheus_client.parser import text_string_to_metric_families
 
 from service.app import create_app
 from service.http.metrics import CHECK_BUCKETS_S, REQUEST_BUCKETS_S, Metrics
-from service.plugin_api import Finding, Status
 from tests.cli.helpers import gate_engine, plan_with
+from tests.engine.hanging import hangs, release_hung_checks  # noqa: F401 (autouse)
 from tests.engine.test_engine import _engine, _Fixed, _ok, _raises
 
 ROOT = Path(__file__).resolve().parents[2]
-RELEASE = threading.Event()
 GATE = "cli-delta-v-gate"  # the test check of tests/cli/helpers.py: fails a burn over 100 m/s
 
 EXPECTED_FAMILIES = {
@@ -34,18 +32,6 @@ EXPECTED_FAMILIES = {
     "burnproof_check_duration_seconds": "histogram",
     "burnproof_check_errors": "counter",
 }
-
-
-def _hangs(context, params):
-    RELEASE.wait(30.0)  # released by the fixture, so no thread outlives the test
-    return [Finding(Status.PASS, "late")]
-
-
-@pytest.fixture(autouse=True)
-def _release_hung_checks():
-    RELEASE.clear()
-    yield
-    RELEASE.set()
 
 
 def _scrape(client) -> dict[tuple[str, frozenset], float]:
@@ -165,7 +151,7 @@ def test_a_check_that_raises_is_counted_as_an_error():
 
 
 def test_a_check_that_overruns_is_counted_as_a_timeout():
-    engine = _engine(_Fixed("a-hangs", _hangs), _Fixed("b-good", _ok))
+    engine = _engine(_Fixed("a-hangs", hangs), _Fixed("b-good", _ok))
     profile = engine.profiles["default"]
     engine.profiles["default"] = type(profile)(
         **{**profile.__dict__, "check_time_budget_s": 0.2, "request_time_budget_s": 0.2}
