@@ -24,7 +24,7 @@ from __future__ import annotations
 import hashlib
 import hmac
 import re
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, field
 
 from flask import Flask, Response, current_app, request
@@ -74,31 +74,24 @@ def _file_digests(path: str) -> tuple[list[bytes], list[str]]:
     except (OSError, UnicodeDecodeError) as error:
         reason = getattr(error, "strerror", None) or "not UTF-8 text"
         return [], [f"BURNPROOF_TOKEN_FILE {path} cannot be read: {reason}"]
-    digests, problems = [], []
-    for number, line in enumerate(lines, start=1):
-        content = line.split("#", 1)[0].strip()
-        if not content:
-            continue
-        digest = _digest_of(content)
-        if digest is None:
-            problems.append(
-                f"BURNPROOF_TOKEN_FILE {path} line {number} is not a SHA-256 digest (64 hex digits)"
-            )
-        else:
-            digests.append(digest)
-    return digests, problems
+    contents = (line.split("#", 1)[0] for line in lines)
+    return _digests(contents, f"BURNPROOF_TOKEN_FILE {path} line")
 
 
 def _env_digests(value: str) -> tuple[list[bytes], list[str]]:
+    return _digests(value.split(","), "BURNPROOF_TOKEN_SHA256 item")
+
+
+def _digests(items: Iterable[str], where: str) -> tuple[list[bytes], list[str]]:
+    """The digests among ``items`` (blank ones skipped) and a problem for each that is not one,
+    placed by ``where`` and its 1-based number (never its text: it might be a pasted token)."""
     digests, problems = [], []
-    for number, item in enumerate(value.split(","), start=1):
+    for number, item in enumerate(items, start=1):
         if not item.strip():
             continue
         digest = _digest_of(item)
         if digest is None:
-            problems.append(
-                f"BURNPROOF_TOKEN_SHA256 item {number} is not a SHA-256 digest (64 hex digits)"
-            )
+            problems.append(f"{where} {number} is not a SHA-256 digest (64 hex digits)")
         else:
             digests.append(digest)
     return digests, problems
