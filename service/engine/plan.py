@@ -118,6 +118,10 @@ class Maneuver:
     engine: str
     frame: str
     delta_v_m_s: Vector3
+    # What the planner declared for this burn (an OPM's MAN_DURATION and -MAN_DELTA_MASS), for
+    # the declared-burn-agreement check; None when not given. 0 s means an impulsive burn.
+    declared_duration_s: float | None = None
+    declared_propellant_kg: float | None = None
 
 
 @dataclass(frozen=True)

@@ -13,7 +13,9 @@ Rules beyond single fields (decided here, documented for clients):
   (``target_orbit``, ``max_burn_s``, ``min_burn_s``, ``execution_errors`` and each of its
   fields, ``drag_area_m2``,
   ``drag_coefficient``, ``protected_axis_offset_deg``, ``srp_area_m2``,
-  ``reflectivity_coefficient``, ``target_orbit.inclination_deg``) and means "not given";
+  ``reflectivity_coefficient``, ``target_orbit.inclination_deg``,
+  ``maneuvers[].declared_duration_s``, ``maneuvers[].declared_propellant_kg``) and means
+  "not given";
 * ``end_of_life`` is a JSON boolean only (``true``/``false``, never ``"yes"``, ``1`` or
   ``null``); it marks the plan as an end-of-life disposal for the ``disposal`` check;
 * ``initial_state`` holds exactly one form: Cartesian (``frame``, ``position_km``,
@@ -357,6 +359,18 @@ class ManeuverSchema(StrictSchema):
     engine = StrictString(required=True, min_length=1, max_length=64)
     frame = StrictString(required=True, choices=MANEUVER_FRAMES)
     delta_v_m_s = Vector3(required=True, nonzero="a burn needs a non-zero delta-v")
+    declared_duration_s = _optional_number(
+        "the burn duration the planner declared, s (an OPM's MAN_DURATION; 0 for a burn the "
+        "planner modelled as an impulse); the declared-burn-agreement check compares it with "
+        "the duration burnproof computes from the engine",
+        ge=0,
+    )
+    declared_propellant_kg = _optional_number(
+        "the propellant the planner declared the burn uses, kg (minus an OPM's "
+        "MAN_DELTA_MASS); the declared-burn-agreement check compares it with the propellant "
+        "burnproof computes from the rocket equation",
+        ge=0,
+    )
 
     @post_load
     def _make(self, data: dict, **kwargs) -> Maneuver:

@@ -675,7 +675,8 @@ def test_unknown_engine_is_not_reported_when_the_engines_are_unreadable() -> Non
 def test_unknown_field_message_lists_the_allowed_fields() -> None:
     errors = _errors(with_value(valid_plan(), "maneuvers.0.dv", 1))
     assert errors["maneuvers.0.dv"] == [
-        "unknown field 'dv'; allowed here: delta_v_m_s, engine, frame, id, ignition"
+        "unknown field 'dv'; allowed here: declared_duration_s, declared_propellant_kg, "
+        "delta_v_m_s, engine, frame, id, ignition"
     ]
 
 
