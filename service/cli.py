@@ -1,6 +1,7 @@
 """The command line: the same engine call as the HTTP API, offline, with exit codes for pipelines.
 
-    burnproof validate PLAN.json [--profile NAME] [--format json|text|junit] [--output FILE]
+    burnproof validate PLAN [--spacecraft FILE] [--profile NAME]
+                       [--format json|text|junit|opm] [--output FILE]
     burnproof serve [--host 127.0.0.1] [--port 8080]
     burnproof checks [--format json|text]
 
@@ -8,6 +9,13 @@ Exit codes: 0 the plan passed or passed with warnings; 1 it failed; 2 it could n
 be read or validated (missing file, malformed JSON, an invalid plan, an engine that
 is not ready, a validation past the compute budget), a usage error, or a server that
 could not start. Problems go to stderr as one line each, never as a traceback.
+
+``validate`` reads a JSON plan or a CCSDS OPM in KVN (recognised by its first keyword,
+``CCSDS_OPM_VERS``), which needs ``--spacecraft FILE``: the spacecraft description, JSON or
+TOML (``service.ccsds.spacecraft``), because engines are never in an OPM. ``--format opm``
+writes the validated plan as an OPM (``service.ccsds.convert``); a plan that failed is not
+written (exit 1, one line saying so). OPM errors are one line each: the file, the line
+number, the keyword and what is wrong.
 
 ``validate`` applies a compute budget only when ``BURNPROOF_COMPUTE_BUDGET_S`` is set
 (offline runs are not cut short unless asked); the service always applies one.
@@ -25,6 +33,8 @@ from pathlib import Path
 from typing import Any
 
 from service import __version__
+from service.ccsds.convert import PlanFailed, describe_key, is_opm, load_opm_plan, write_plan_opm
+from service.ccsds.spacecraft import parse_description
 from service.engine import EngineNotReady, PlanInvalid
 from service.engine.budget import ComputeBudget, budget_from_environment
 from service.engine.core import engine_from_environment
@@ -68,10 +78,15 @@ def _not_ready(problems: Sequence[str]) -> int:
     return EXIT_UNUSABLE
 
 
-def _plan_invalid(error: PlanInvalid) -> int:
-    """The same field messages as the API's 422 ``errors``, one ``path: message`` per line."""
+def _plan_invalid(error: PlanInvalid, label: str | None = None) -> int:
+    """The same field messages as the API's 422 ``errors``, one ``path: message`` per line;
+    an OPM's as ``FILE: line 42, MAN_DV_1: message``."""
     lines = [
-        f"{path}: {message}" for path, messages in error.errors.items() for message in messages
+        f"{label}: {describe_key(path)}: {message}"
+        if label is not None and path.startswith("opm")
+        else f"{path}: {message}"
+        for path, messages in error.errors.items()
+        for message in messages
     ]
     for line in lines or [f"plan: {error.detail}"]:
         print(line, file=sys.stderr)
@@ -104,13 +119,29 @@ def cmd_validate(args: argparse.Namespace, engine_source: Any) -> int:
     except OSError as error:
         _say(f"cannot read {label}: {error.strerror or error}")
         return EXIT_UNUSABLE
+    opm_input = is_opm(raw)
+    if opm_input and args.spacecraft is None:
+        _say(
+            f"{label} is an OPM, which carries no engines: give the spacecraft description "
+            "with --spacecraft FILE (JSON or TOML)"
+        )
+        return EXIT_UNUSABLE
+    if not opm_input and args.spacecraft is not None:
+        _say(f"--spacecraft is for an OPM plan; {label} is not one (no CCSDS_OPM_VERS first)")
+        return EXIT_UNUSABLE
     try:
-        plan = load_plan(parse_json_bytes(raw))
+        if opm_input:
+            plan = _load_opm(raw, args.spacecraft)
+        else:
+            plan = load_plan(parse_json_bytes(raw))
+    except OSError as error:
+        _say(f"cannot read {args.spacecraft}: {error.strerror or error}")
+        return EXIT_UNUSABLE
     except MalformedJson as error:
         _say(f"{label}: {error}")  # says what is wrong and where (line, column)
         return EXIT_UNUSABLE
     except PlanInvalid as error:
-        return _plan_invalid(error)
+        return _plan_invalid(error, label)
     try:
         budget_s = budget_from_environment(os.environ)
     except ValueError as error:
@@ -130,7 +161,14 @@ def cmd_validate(args: argparse.Namespace, engine_source: Any) -> int:
     except ComputeBudgetExceeded as error:
         _say(f"{label}: {error}; raise BURNPROOF_COMPUTE_BUDGET_S to allow more")
         return EXIT_UNUSABLE
-    payload = RENDERERS[args.format](report)
+    if args.format == "opm":
+        try:
+            payload = write_plan_opm(plan, report).encode("ascii")
+        except PlanFailed as error:
+            _say(f"{label}: {error.detail}; nothing written")
+            return EXIT_FAIL
+    else:
+        payload = RENDERERS[args.format](report)
     try:
         _write(payload, args.output)
     except BrokenPipeError:
@@ -145,6 +183,16 @@ def cmd_validate(args: argparse.Namespace, engine_source: Any) -> int:
         _say(f"{report.get('plan_id')}: {verdict} ({counts}); report written to {args.output}")
     # Fail-closed: anything but an explicit pass or warn is a failure.
     return EXIT_OK if verdict in ("pass", "warn") else EXIT_FAIL
+
+
+def _load_opm(raw: bytes, spacecraft: str):
+    """The plan of an OPM file and its description file; raises PlanInvalid naming the fault."""
+    description = parse_description(
+        _read(spacecraft), toml=True if spacecraft.lower().endswith(".toml") else None
+    )
+    # Decoded leniently so that a stray non-ASCII byte is reported by line, not here.
+    _, plan = load_opm_plan(raw.decode("utf-8", errors="replace"), description)
+    return plan
 
 
 def cmd_checks(args: argparse.Namespace, engine_source: Any) -> int:
@@ -245,12 +293,25 @@ def build_parser() -> argparse.ArgumentParser:
         "Exit 0 for pass or warn, 1 for fail, 2 when the plan cannot be read or validated "
         "(problems go to stderr as 'path: message' lines).",
     )
-    validate.add_argument("plan", metavar="PLAN.json", help="the plan file, or - for stdin")
+    validate.add_argument(
+        "plan",
+        metavar="PLAN",
+        help="the plan: a JSON plan or a CCSDS OPM (KVN) file, or - for stdin",
+    )
+    validate.add_argument(
+        "--spacecraft",
+        metavar="FILE",
+        help="the spacecraft description (JSON or TOML) an OPM plan needs: engines, "
+        "maneuver ids and engines, plan fields an OPM cannot carry",
+    )
     validate.add_argument(
         "--profile", metavar="NAME", help="flight-rule profile (default: the plan's own)"
     )
     validate.add_argument(
-        "--format", choices=sorted(RENDERERS), default="json", help="report format (default: json)"
+        "--format",
+        choices=sorted([*RENDERERS, "opm"]),
+        default="json",
+        help="report format, or opm for the validated plan as a CCSDS OPM (default: json)",
     )
     validate.add_argument(
         "--output", metavar="FILE", help="write the report here instead of stdout"

@@ -12,8 +12,15 @@ from __future__ import annotations
 import logging
 
 from flask import Flask, Response, current_app, request
-from werkzeug.exceptions import HTTPException, MethodNotAllowed, NotFound, RequestEntityTooLarge
+from werkzeug.exceptions import (
+    HTTPException,
+    MethodNotAllowed,
+    NotAcceptable,
+    NotFound,
+    RequestEntityTooLarge,
+)
 
+from service.ccsds.convert import PlanFailed
 from service.engine.errors import ComputeBudgetExceeded, EngineNotReady, PlanInvalid
 from service.engine.render import to_json_bytes
 from service.schemas import MalformedJson
@@ -27,6 +34,7 @@ _BY_STATUS: dict[int, tuple[str, str]] = {
     401: ("unauthorized", "Authentication required"),
     404: ("not-found", "Not found"),
     405: ("method-not-allowed", "Method not allowed"),
+    406: ("not-acceptable", "Not acceptable"),
     413: ("body-too-large", "Request body too large"),
     415: ("unsupported-media-type", "Unsupported media type"),
     422: ("invalid-plan", "Invalid plan"),
@@ -35,6 +43,9 @@ _BY_STATUS: dict[int, tuple[str, str]] = {
 }
 MALFORMED_JSON = ("malformed-json", "Malformed JSON")
 COMPUTE_BUDGET_EXCEEDED = ("compute-budget-exceeded", "Compute budget exceeded")
+PLAN_FAILED = ("plan-failed", "Plan failed validation")
+# the response types of the validation endpoints, listed in a 406 (service.http.routes)
+ACCEPTABLE = ("application/json", "text/x.ccsds-opm-kvn")
 # RFC 6750 section 3.1 error codes, as problem kinds of their own
 INVALID_TOKEN = ("invalid-token", "Invalid bearer token")
 INVALID_AUTH_REQUEST = ("invalid-authorization", "Malformed Authorization header")
@@ -96,6 +107,8 @@ def _http_exception(error: HTTPException) -> Response | HTTPException:
         detail = f"{request.method} is not allowed on {request.path}; allowed: {allowed}"
     elif isinstance(error, NotFound) and detail == NotFound.description:
         detail = f"there is no resource at {request.path}"
+    elif isinstance(error, NotAcceptable):
+        return problem(406, detail, headers=headers, acceptable=list(ACCEPTABLE))
     elif isinstance(error, RequestEntityTooLarge):
         limit = current_app.config.get("MAX_CONTENT_LENGTH")
         detail = f"the request body is over the {limit}-byte limit"
@@ -108,6 +121,13 @@ def _malformed_json(error: MalformedJson) -> Response:
 
 def _plan_invalid(error: PlanInvalid) -> Response:
     return problem(422, error.detail, errors=error.errors)
+
+
+def _plan_failed(error: PlanFailed) -> Response:
+    """409: the plan is valid but failed, so it is not written in the exchange format asked."""
+    return problem(
+        409, error.detail, kind=PLAN_FAILED, verdict=error.verdict, summary=error.summary
+    )
 
 
 def _engine_not_ready(error: EngineNotReady) -> Response:
@@ -130,6 +150,7 @@ def register_error_handlers(app: Flask) -> None:
     app.register_error_handler(HTTPException, _http_exception)
     app.register_error_handler(MalformedJson, _malformed_json)
     app.register_error_handler(PlanInvalid, _plan_invalid)
+    app.register_error_handler(PlanFailed, _plan_failed)
     app.register_error_handler(EngineNotReady, _engine_not_ready)
     app.register_error_handler(ComputeBudgetExceeded, _compute_budget_exceeded)
     app.register_error_handler(Exception, _unexpected)

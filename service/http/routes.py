@@ -13,6 +13,16 @@ Request body of ``POST /v1/validations``:
 
 The query parameter ``?profile=NAME`` (an addition to the contract) overrides
 the plan's own ``profile`` for this request.
+
+``POST /v1/opm-validations`` takes the same kind of body, ``application/json``, holding a
+CCSDS OPM in KVN and its spacecraft description: ``{"opm": "<KVN text>", "spacecraft":
+<description>}`` (``service.ccsds``); it answers the same report.
+
+Both validation endpoints negotiate the response (``Accept``, RFC 9110 section 12.5.1):
+``application/json`` (also no ``Accept``, ``*/*``, ``application/*``) gives the report;
+``text/x.ccsds-opm-kvn`` gives the validated plan as an OPM (``OPM_MEDIA_TYPE``), or a 409
+problem when its verdict is ``fail``; an ``Accept`` that allows neither is a 406 problem
+listing the two. Every answer of theirs carries ``Vary: Accept``.
 """
 
 from __future__ import annotations
@@ -20,9 +30,10 @@ from __future__ import annotations
 from functools import cache
 
 from flask import Blueprint, Response, current_app, request
-from werkzeug.exceptions import RequestEntityTooLarge, UnsupportedMediaType
+from werkzeug.exceptions import NotAcceptable, RequestEntityTooLarge, UnsupportedMediaType
 from werkzeug.http import parse_options_header
 
+from service.ccsds.convert import load_opm_plan, write_plan_opm
 from service.engine.errors import PlanInvalid
 from service.http.auth import auth_problems
 from service.http.draining import draining_reason
@@ -33,6 +44,10 @@ from service.schemas import load_plan, parse_json_bytes
 bp = Blueprint("api", __name__)
 
 JSON_MEDIA_TYPE = "application/json"
+OPM_MEDIA_TYPE = "text/x.ccsds-opm-kvn"  # sent with "; charset=us-ascii" (an OPM is ASCII)
+RESPONSE_MEDIA_TYPES = (JSON_MEDIA_TYPE, OPM_MEDIA_TYPE)  # the first is the default
+_NEGOTIATED = ("api.create_validation", "api.create_opm_validation")
+_ENVELOPE_KEYS = ("opm", "spacecraft")
 _READ_CHUNK_BYTES = 64 * 1024
 
 
@@ -95,15 +110,80 @@ def _profile_override() -> str | None:
     return values[0]
 
 
+def _response_type() -> str:
+    """The negotiated response media type; a 406 when the client accepts neither."""
+    if not request.headers.get("Accept", "").strip():
+        return JSON_MEDIA_TYPE  # no preference stated: the report
+    chosen = request.accept_mimetypes.best_match(RESPONSE_MEDIA_TYPES)
+    if chosen is None:
+        raise NotAcceptable(
+            description=f"the Accept header allows neither response type of this endpoint: "
+            f"{', '.join(RESPONSE_MEDIA_TYPES)}"
+        )
+    return chosen
+
+
+@bp.after_request
+def _vary_on_accept(response: Response) -> Response:
+    if request.endpoint in _NEGOTIATED:
+        response.vary.add("Accept")
+    return response
+
+
+def _answer(plan, media_type: str) -> Response:
+    """Validate ``plan`` and answer in ``media_type``: the report, or the plan as an OPM."""
+    report = _engine().validate(plan, profile=_profile_override(), **validation_options())
+    note_validation(report)
+    if media_type == OPM_MEDIA_TYPE:
+        text = write_plan_opm(plan, report)  # PlanFailed -> 409 problem
+        return Response(
+            text.encode("ascii"),
+            mimetype=OPM_MEDIA_TYPE,
+            content_type=(f"{OPM_MEDIA_TYPE}; charset=us-ascii"),
+        )
+    return _json(report)
+
+
 @bp.post("/v1/validations")
 def create_validation() -> Response:
     """Validate one plan: 200 with the report whatever its verdict; a problem otherwise."""
+    media_type = _response_type()
     _require_json_body()
     data = parse_json_bytes(_read_body())
     plan = load_plan(data)
-    report = _engine().validate(plan, profile=_profile_override(), **validation_options())
-    note_validation(report)
-    return _json(report)
+    return _answer(plan, media_type)
+
+
+def _envelope(data: object) -> tuple[str, object]:
+    """The OPM text and the description of a ``/v1/opm-validations`` body, or a 422."""
+    if not isinstance(data, dict):
+        raise PlanInvalid(
+            {"plan": ['the body must be a JSON object {"opm": ..., "spacecraft": ...}']}
+        )
+    errors: dict[str, list[str]] = {}
+    for key in sorted(set(data) - set(_ENVELOPE_KEYS)):
+        errors[key] = [f"unknown field {key!r}; allowed here: opm, spacecraft"]
+    text = data.get("opm")
+    if not isinstance(text, str) or not text.strip():
+        errors["opm"] = ["opm is required: the Orbit Parameter Message, KVN text in a JSON string"]
+    if not isinstance(data.get("spacecraft"), dict):
+        errors["spacecraft"] = [
+            "spacecraft is required: the spacecraft description object (its spacecraft block, "
+            "maneuvers or default_engine, and optional plan fields)"
+        ]
+    if errors:
+        raise PlanInvalid(errors)
+    return text, data["spacecraft"]
+
+
+@bp.post("/v1/opm-validations")
+def create_opm_validation() -> Response:
+    """Validate the plan an OPM and its spacecraft description make: as ``/v1/validations``."""
+    media_type = _response_type()
+    _require_json_body()
+    text, description = _envelope(parse_json_bytes(_read_body()))
+    _, plan = load_opm_plan(text, description)
+    return _answer(plan, media_type)
 
 
 @bp.get("/v1/checks")

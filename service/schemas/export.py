@@ -37,7 +37,12 @@ from service.schemas.fields import (
     Vector3,
 )
 from service.schemas.fields import NO_CONTROL_PATTERN as _NO_CONTROL
-from service.schemas.openapi_bodies import NOT_READY, PROBLEM_DETAILS
+from service.schemas.openapi_bodies import (
+    NOT_READY,
+    OPM_VALIDATION_REQUEST,
+    PROBLEM_DETAILS,
+    SPACECRAFT_DESCRIPTION,
+)
 from service.schemas.openapi_paths import METHOD_NOT_ALLOWED, SECURITY_SCHEMES, paths
 from service.schemas.report import ScalarValue
 
@@ -220,6 +225,8 @@ def openapi_document() -> dict:
     # the name earlier documents gave it, kept so generated clients keep compiling
     spec.components.schema("Problem", {"$ref": _REF + "ProblemDetails"})
     spec.components.schema("NotReady", NOT_READY)
+    spec.components.schema("SpacecraftDescription", SPACECRAFT_DESCRIPTION)
+    spec.components.schema("OpmValidationRequest", OPM_VALIDATION_REQUEST)
     for name, scheme in SECURITY_SCHEMES.items():
         spec.components.security_scheme(name, scheme)
     spec.components.response("MethodNotAllowed", METHOD_NOT_ALLOWED)

@@ -14,12 +14,14 @@ from service.schemas.openapi_bodies import (
     CHECK,
     HEALTHY,
     OPEN_OBJECT,
+    OPM_TEXT,
     PROFILE,
     READY,
     SCHEMA_REF,
 )
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
+OPM_MEDIA_TYPE = "text/x.ccsds-opm-kvn"
 BEARER = "bearerAuth"
 SECURITY_SCHEMES = {
     BEARER: {
@@ -56,6 +58,11 @@ _PROBLEMS = {
     401: "a bearer token is needed and the Authorization header is missing, malformed or "
     "carries a token that is not accepted",
     404: "there is no resource at this path",
+    406: "the Accept header allows neither application/json (the report) nor "
+    "text/x.ccsds-opm-kvn (the validated plan as a CCSDS OPM); acceptable lists the two",
+    409: "text/x.ccsds-opm-kvn was asked for and the plan's verdict is fail: a failed plan is "
+    "not written as an OPM (type urn:burnproof:problem:plan-failed; verdict and summary say "
+    "why); ask for application/json to get the report",
     413: "the body is larger than 1 MiB (with or without Content-Length)",
     415: "the body is not application/json (utf-8, unencoded)",
     422: "the plan breaks the schema (NaN, Infinity and overflowing numbers among it), names "
@@ -152,8 +159,68 @@ PLAN_EXAMPLE = {
 _NAME = {"name": "name", "in": "path", "required": True, "schema": {"type": "string"}}
 
 
+def _validated(description: str) -> dict:
+    """The 200 of a validation endpoint: the report, or the validated plan as an OPM."""
+    return {
+        "description": description + ", negotiated by Accept (Vary: Accept): application/json "
+        "(the default; also no Accept, */* or application/*) gives the report whatever its "
+        "verdict; text/x.ccsds-opm-kvn gives the validated plan (verdict pass or warn) as a "
+        "CCSDS OPM in KVN, US-ASCII, with the computed MAN_DURATION and MAN_DELTA_MASS",
+        "content": {
+            "application/json": {"schema": {"$ref": SCHEMA_REF + "Report"}},
+            OPM_MEDIA_TYPE: {"schema": OPM_TEXT},
+        },
+    }
+
+
+_VARY = {
+    "description": "always Accept: the response depends on it",
+    "required": True,
+    "schema": {"type": "string", "pattern": "Accept"},
+}
+
+
+def _negotiated(responses: dict) -> dict:
+    """Every response of a negotiated operation carries Vary: Accept."""
+    for response in responses.values():
+        response["headers"] = {**response["headers"], "Vary": _VARY}
+    return responses
+
+
 def paths() -> dict[str, dict]:
     """Path -> OpenAPI path item, for every route of ``service.http``."""
+    opm_validation = {
+        "operationId": "createOpmValidation",
+        "summary": "Validate the plan a CCSDS OPM (KVN) and its spacecraft description make; "
+        "200 with the same report as /v1/validations",
+        "parameters": [_PROFILE_QUERY],
+        "requestBody": {
+            "required": True,
+            "content": {
+                "application/json": {
+                    "schema": {"$ref": SCHEMA_REF + "OpmValidationRequest"},
+                }
+            },
+        },
+        "responses": _negotiated(
+            _responses(
+                _validated("the report, or the validated plan as an OPM"),
+                400,
+                401,
+                406,
+                409,
+                413,
+                415,
+                422,
+                503,
+                s422="the envelope, the OPM or the description is unusable, or the plan they make "
+                "breaks the plan rules: errors maps opm.line.<n>.<KEYWORD> (the message's line "
+                "and keyword) or the description's dotted field path (spacecraft.engines.0.isp_s, "
+                "maneuvers.2.engine) or the envelope's field (opm, spacecraft) to messages",
+            )
+        ),
+        **_PROTECTED,
+    }
     validation = {
         "operationId": "createValidation",
         "summary": "Validate one plan; 200 with the report whatever the verdict",
@@ -167,8 +234,18 @@ def paths() -> dict[str, dict]:
                 }
             },
         },
-        "responses": _responses(
-            _ok("the report", {"$ref": SCHEMA_REF + "Report"}), 400, 401, 413, 415, 422, 503
+        "responses": _negotiated(
+            _responses(
+                _validated("the report, or the validated plan as an OPM"),
+                400,
+                401,
+                406,
+                409,
+                413,
+                415,
+                422,
+                503,
+            )
         ),
         **_PROTECTED,
     }
@@ -182,6 +259,7 @@ def paths() -> dict[str, dict]:
     metrics_text = {"type": "string"}
     return {
         "/v1/validations": {"post": validation},
+        "/v1/opm-validations": {"post": opm_validation},
         "/v1/checks": _get(
             "listChecks",
             "Every registered check",

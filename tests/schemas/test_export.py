@@ -78,6 +78,7 @@ def test_openapi_document_lists_the_contract_endpoints() -> None:
     operations = {(method, path) for path, item in document["paths"].items() for method in item}
     assert operations == {
         ("post", "/v1/validations"),
+        ("post", "/v1/opm-validations"),
         ("get", "/v1/checks"),
         ("get", "/v1/profiles"),
         ("get", "/v1/profiles/{name}"),
@@ -91,9 +92,12 @@ def test_openapi_document_lists_the_contract_endpoints() -> None:
         "$ref": "#/components/schemas/Plan"
     }
     responses = post["responses"]
-    assert set(responses) == {"200", "400", "401", "413", "415", "422", "500", "503"}
+    assert set(responses) == {
+        "200", "400", "401", "406", "409", "413", "415", "422", "500", "503"
+    }  # fmt: skip
     assert responses["200"]["content"]["application/json"]["schema"]["$ref"].endswith("/Report")
-    for status in ("400", "401", "413", "415", "422", "500", "503"):
+    assert "text/x.ccsds-opm-kvn" in responses["200"]["content"]
+    for status in ("400", "401", "406", "409", "413", "415", "422", "500", "503"):
         schema = responses[status]["content"]["application/problem+json"]["schema"]
         assert schema == {"$ref": "#/components/schemas/ProblemDetails"}
     assert post["security"] == [{"bearerAuth": []}]
