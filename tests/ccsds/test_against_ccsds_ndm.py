@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 from ccsds_ndm.ndm_io import NdmIo
 
-from service.ccsds import parse_opm, write_opm
+from service.ccsds.opm import parse_opm, write_opm
 from tests.ccsds.opm_samples import inserted, valid_text
 
 DATA = Path(__file__).parent / "data"

@@ -7,7 +7,7 @@ named beside each case.
 
 import pytest
 
-from service.ccsds import OpmErrors, parse_opm
+from service.ccsds.opm import OpmErrors, parse_opm
 from tests.ccsds.opm_samples import inserted, replaced, valid_text
 
 CASES = [

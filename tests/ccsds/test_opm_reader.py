@@ -19,7 +19,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from service.ccsds import OpmErrors, parse_opm
+from service.ccsds.opm import OpmErrors, parse_opm
 from tests.ccsds.opm_samples import inserted, replaced, valid_text
 
 DATA = Path(__file__).parent / "data"

@@ -8,7 +8,7 @@ import pytest
 from hypothesis import given
 from hypothesis import strategies as st
 
-from service.ccsds import (
+from service.ccsds.opm import (
     OpmHeader,
     OpmKeplerian,
     OpmManeuver,
