@@ -371,14 +371,21 @@ def load_opm_plan(text: str, description_data: object) -> tuple[dict, Plan]:
     """
     from service.ccsds.opm import OpmErrors, parse_opm  # the reader's module
 
-    description = load_description(description_data)
+    # Both are read before either is refused, so one answer names every fault of both.
+    described: dict[str, list[str]] = {}
+    try:
+        description = load_description(description_data)
+    except DescriptionInvalid as error:
+        described = dict(error.errors)
     try:
         message = parse_opm(text)
     except OpmErrors as error:
-        errors: dict[str, list[str]] = {}
+        errors = dict(described)
         for item in error.errors:
             errors.setdefault(error_key(item.line, item.keyword), []).append(item.message)
         raise OpmInvalid(errors) from None
+    if described:
+        raise DescriptionInvalid(described)
     document = plan_document(message, description, text=text)
     try:
         return document, load_plan(document)

@@ -164,8 +164,10 @@ def _envelope(data: object) -> tuple[str, object]:
     for key in sorted(set(data) - set(_ENVELOPE_KEYS)):
         errors[key] = [f"unknown field {key!r}; allowed here: opm, spacecraft"]
     text = data.get("opm")
-    if not isinstance(text, str) or not text.strip():
+    if "opm" not in data:
         errors["opm"] = ["opm is required: the Orbit Parameter Message, KVN text in a JSON string"]
+    elif not isinstance(text, str) or not text.strip():
+        errors["opm"] = ["opm must be the Orbit Parameter Message: non-empty KVN text, a string"]
     if not isinstance(data.get("spacecraft"), dict):
         errors["spacecraft"] = [
             "spacecraft is required: the spacecraft description object (its spacecraft block, "

@@ -113,6 +113,23 @@ def test_description_and_envelope_errors_name_their_fields(client) -> None:
     assert "plan" in body["errors"]
 
 
+def test_faults_of_the_message_and_the_description_come_in_one_answer(client) -> None:
+    description = json.loads(json.dumps(DESCRIPTION))
+    description["spacecraft"]["engines"][0]["isp_s"] = 0
+    text = OPM.replace("REF_FRAME = EME2000", "REF_FRAME = EME2000\u00e9")
+    body = assert_problem(_post_opm(client, {"opm": text, "spacecraft": description}), 422)
+    assert set(body["errors"]) == {"opm.line.11.REF_FRAME", "spacecraft.engines.0.isp_s"}
+
+
+def test_an_opm_that_is_not_text_is_named_as_such(client) -> None:
+    body = assert_problem(_post_opm(client, {"opm": 7, "spacecraft": DESCRIPTION}), 422)
+    assert body["errors"]["opm"] == [
+        "opm must be the Orbit Parameter Message: non-empty KVN text, a string"
+    ]
+    body = assert_problem(_post_opm(client, {"spacecraft": DESCRIPTION}), 422)
+    assert body["errors"]["opm"][0].startswith("opm is required")
+
+
 def test_the_new_endpoint_keeps_the_body_rules(client) -> None:
     response = client.post("/v1/opm-validations", data=OPM, headers={"Content-Type": "text/plain"})
     assert_problem(response, 415)
