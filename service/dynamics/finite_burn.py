@@ -85,6 +85,101 @@ def _energy_km2_s2(r_km: np.ndarray, v_km_s: np.ndarray, mu_km3_s2: float) -> fl
     return float(v_km_s @ v_km_s / 2.0 - mu_km3_s2 / np.linalg.norm(r_km))
 
 
+@dataclass(frozen=True)
+class _ThrustArc:
+    """One constant-thrust arc, checked: start state, unit direction, km/s^2 force, mass flow."""
+
+    r0_km: np.ndarray
+    v0_km_s: np.ndarray
+    m0_kg: float
+    u: tuple[float, float, float]
+    thrust_kn: float  # N / 1000: with mass in kg, km/s^2
+    mdot_kg_s: float
+    duration_s: float
+
+
+def _thrust_arc(r_km, v_km_s, mass_kg, direction, thrust_n, isp_s, duration_s) -> _ThrustArc:
+    r0 = _vector3("r_km", r_km)
+    v0 = _vector3("v_km_s", v_km_s)
+    u = _vector3("direction", direction)
+    m0 = _scalar("mass_kg", mass_kg)
+    thrust = _scalar("thrust_n", thrust_n, allow_zero=True)
+    isp = _scalar("isp_s", isp_s)
+    duration = _scalar("duration_s", duration_s, allow_zero=True)
+    u_norm = np.linalg.norm(u)
+    if u_norm == 0.0:
+        raise ValueError("thrust direction must be a non-zero vector")
+    if np.linalg.norm(r0) == 0.0:
+        raise ValueError("position must not be zero")
+    mdot = thrust / (isp * G0_M_S2)
+    if mdot * duration >= m0:
+        raise ValueError(
+            f"burn of {duration} s at {mdot} kg/s would consume the whole {m0} kg mass"
+        )
+    ux, uy, uz = (u / u_norm).tolist()
+    return _ThrustArc(r0, v0, m0, (ux, uy, uz), thrust / 1000.0, mdot, duration)
+
+
+# At most this many burns share one integration: their step sizes are set by the hardest of
+# them, so a long burn in a large group would make every other one take its small steps.
+_BURNS_PER_INTEGRATION = 8
+
+
+def _fly_arcs(arcs: list[_ThrustArc], mu: float) -> list[tuple[np.ndarray, np.ndarray, float]]:
+    """(r_km, v_km_s, mass_kg) at the end of each arc; zero-length arcs end where they start.
+
+    Arcs of similar duration are integrated together, up to ``_BURNS_PER_INTEGRATION`` in
+    one ``solve_ivp`` call, each in its own normalised time tau = t / duration in [0, 1]
+    (dy/dtau = duration * dy/dt), so one call flies them all to their own cutoffs.
+    """
+    ends: list = [(arc.r0_km, arc.v0_km_s, arc.m0_kg) for arc in arcs]
+    moving = sorted((k for k, arc in enumerate(arcs) if arc.duration_s > 0.0),
+                    key=lambda k: arcs[k].duration_s)  # fmt: skip
+    for first in range(0, len(moving), _BURNS_PER_INTEGRATION):
+        group = moving[first : first + _BURNS_PER_INTEGRATION]
+        flown = _integrate([arcs[k] for k in group], mu)
+        for k, end in zip(group, flown, strict=True):
+            ends[k] = end
+    return ends
+
+
+def _integrate(arcs: list[_ThrustArc], mu: float) -> list[tuple[np.ndarray, np.ndarray, float]]:
+    """One solve_ivp (DOP853, rtol 1e-12) over the stacked states of ``arcs``, tau in [0, 1]."""
+    terms = [(*arc.u, arc.thrust_kn, arc.mdot_kg_s, arc.duration_s) for arc in arcs]
+
+    def rhs(_tau: float, y: np.ndarray) -> np.ndarray:
+        # About 70 calls per integration: plain floats instead of small arrays. Per arc the
+        # same arithmetic as -mu / |r|^3 r + (F / m) u with numpy's scalar power for |r|^3,
+        # scaled by the arc's duration.
+        values = y.tolist()
+        out: list[float] = []
+        for k, (ux, uy, uz, thrust_kn, mdot, duration) in enumerate(terms):
+            x, yy, z, vx, vy, vz, mass = values[7 * k : 7 * k + 7]
+            gravity = -mu / float(np.float64(math.sqrt(x * x + yy * yy + z * z)) ** 3)
+            push = thrust_kn / mass
+            out += (
+                duration * vx,
+                duration * vy,
+                duration * vz,
+                duration * (gravity * x + push * ux),
+                duration * (gravity * yy + push * uy),
+                duration * (gravity * z + push * uz),
+                -duration * mdot,
+            )
+        return np.array(out)
+
+    y0 = np.concatenate([np.concatenate((a.r0_km, a.v0_km_s, (a.m0_kg,))) for a in arcs])
+    atol = np.concatenate([[_ATOL_KM] * 3 + [_ATOL_KM_S] * 3 + [_RTOL * a.m0_kg] for a in arcs])
+    sol = solve_ivp(rhs, (0.0, 1.0), y0, method="DOP853", rtol=_RTOL, atol=atol)
+    if not sol.success:
+        raise RuntimeError(f"finite-burn integration failed: {sol.message}")
+    y = sol.y[:, -1]
+    if not np.all(np.isfinite(y)):
+        raise RuntimeError("finite-burn integration produced a non-finite state")
+    return [(y[7 * k : 7 * k + 3].copy(), y[7 * k + 3 : 7 * k + 6].copy(), float(y[7 * k + 6]))
+            for k in range(len(arcs))]  # fmt: skip
+
+
 def propagate_constant_thrust(
     r_km: ArrayLike,
     v_km_s: ArrayLike,
@@ -100,7 +195,8 @@ def propagate_constant_thrust(
     Equations of motion: r'' = -mu r / |r|^3 + (F / m) u, m' = -F / (Isp g0) (Curtis,
     Orbital Mechanics for Engineering Students, 3rd ed., chapter 6, non-impulsive orbital
     maneuvers, from memory), integrated with scipy.integrate.solve_ivp, DOP853,
-    rtol 1e-12. ``thrust_n`` may be 0 (pure two-body coast, useful as a check).
+    rtol 1e-12, in normalised time tau = t / duration. ``thrust_n`` may be 0 (pure
+    two-body coast, useful as a check).
 
     Parameters: ``r_km`` (3,) km and ``v_km_s`` (3,) km/s at the start; ``mass_kg`` > 0;
     ``direction`` (3,) any non-zero length (normalised here); ``thrust_n`` N (>= 0);
@@ -108,59 +204,8 @@ def propagate_constant_thrust(
     Returns (r_km, v_km_s, mass_kg) at the end. Raises ValueError on bad input and
     RuntimeError (with the solver's message) if the integration fails.
     """
-    r0 = _vector3("r_km", r_km)
-    v0 = _vector3("v_km_s", v_km_s)
-    u = _vector3("direction", direction)
-    m0 = _scalar("mass_kg", mass_kg)
-    thrust = _scalar("thrust_n", thrust_n, allow_zero=True)
-    isp = _scalar("isp_s", isp_s)
-    duration = _scalar("duration_s", duration_s, allow_zero=True)
-    mu = _scalar("mu_km3_s2", mu_km3_s2)
-    u_norm = np.linalg.norm(u)
-    if u_norm == 0.0:
-        raise ValueError("thrust direction must be a non-zero vector")
-    if np.linalg.norm(r0) == 0.0:
-        raise ValueError("position must not be zero")
-    u = u / u_norm
-    mdot = thrust / (isp * G0_M_S2)
-    if mdot * duration >= m0:
-        raise ValueError(
-            f"burn of {duration} s at {mdot} kg/s would consume the whole {m0} kg mass"
-        )
-    if duration == 0.0:
-        return r0, v0, m0
-    # N / kg is m/s^2; positions and velocities are in km.
-    thrust_km_n = thrust / 1000.0
-
-    ux, uy, uz = u.tolist()
-
-    def rhs(_t: float, y: np.ndarray) -> np.ndarray:
-        # The step is called about 70 times per burn: plain floats instead of small arrays.
-        # Same arithmetic as -mu / |r|^3 r + (F / m) u with numpy's scalar power for |r|^3.
-        x, yy, z, vx, vy, vz, mass = y.tolist()
-        gravity = -mu / float(np.float64(math.sqrt(x * x + yy * yy + z * z)) ** 3)
-        push = thrust_km_n / mass
-        return np.array(
-            (
-                vx,
-                vy,
-                vz,
-                gravity * x + push * ux,
-                gravity * yy + push * uy,
-                gravity * z + push * uz,
-                -mdot,
-            )
-        )
-
-    y0 = np.concatenate((r0, v0, (m0,)))
-    atol = np.array([_ATOL_KM] * 3 + [_ATOL_KM_S] * 3 + [_RTOL * m0])
-    sol = solve_ivp(rhs, (0.0, duration), y0, method="DOP853", rtol=_RTOL, atol=atol)
-    if not sol.success:
-        raise RuntimeError(f"finite-burn integration failed: {sol.message}")
-    y = sol.y[:, -1]
-    if not np.all(np.isfinite(y)):
-        raise RuntimeError("finite-burn integration produced a non-finite state")
-    return y[:3].copy(), y[3:6].copy(), float(y[6])
+    arc = _thrust_arc(r_km, v_km_s, mass_kg, direction, thrust_n, isp_s, duration_s)
+    return _fly_arcs([arc], _scalar("mu_km3_s2", mu_km3_s2))[0]
 
 
 def _equivalent_impulse_km_s(
@@ -218,26 +263,64 @@ def simulate_finite_burn(
     Parameters: ``r_ignition_km`` (3,) km and ``v_ignition_km_s`` (3,) km/s at ignition;
     ``mass_ignition_kg`` kg (> 0); ``delta_v_inertial_m_s`` (3,) planned impulsive delta-v in
     inertial components, m/s (non-zero); ``thrust_n`` N (> 0); ``isp_s`` s (> 0);
-    ``mu_km3_s2`` km^3/s^2 (> 0). One burn per call (solve_ivp integrates one trajectory).
+    ``mu_km3_s2`` km^3/s^2 (> 0). ``simulate_finite_burns`` does many at once.
     Raises ValueError on bad input, RuntimeError if the integration fails.
     """
-    r0 = _vector3("r_ignition_km", r_ignition_km)
-    v0 = _vector3("v_ignition_km_s", v_ignition_km_s)
-    dv = _vector3("delta_v_inertial_m_s", delta_v_inertial_m_s)
-    m0 = _scalar("mass_ignition_kg", mass_ignition_kg)
-    thrust = _scalar("thrust_n", thrust_n)
-    isp = _scalar("isp_s", isp_s)
+    burn = FiniteBurn(
+        r_ignition_km, v_ignition_km_s, mass_ignition_kg, delta_v_inertial_m_s, thrust_n, isp_s
+    )
+    return simulate_finite_burns([burn], mu_km3_s2)[0]
+
+
+@dataclass(frozen=True)
+class FiniteBurn:
+    """One burn to fly with finite thrust: the arguments of :func:`simulate_finite_burn`."""
+
+    r_ignition_km: ArrayLike
+    v_ignition_km_s: ArrayLike
+    mass_ignition_kg: float
+    delta_v_inertial_m_s: ArrayLike
+    thrust_n: float
+    isp_s: float
+
+
+def simulate_finite_burns(burns: list[FiniteBurn], mu_km3_s2: float) -> list[FiniteBurnResult]:
+    """:func:`simulate_finite_burn` for each of ``burns``, their finite arcs integrated together.
+
+    Every burn is checked first (ValueError naming the bad value, as for one burn); the
+    finite arcs are then flown by ``_fly_arcs`` (several per solve_ivp call, each to its own
+    cutoff), and each is compared with its own impulsive model. The results agree with
+    one-at-a-time integration to the integrator's tolerance (rtol 1e-12).
+    """
     mu = _scalar("mu_km3_s2", mu_km3_s2)
+    setups = [_setup(burn) for burn in burns]
+    ends = _fly_arcs([arc for arc, _ in setups], mu)
+    return [_compare(arc, dv, end, mu) for (arc, dv), end in zip(setups, ends, strict=True)]
+
+
+def _setup(burn: FiniteBurn) -> tuple[_ThrustArc, np.ndarray]:
+    """The burn's finite arc (duration from the rocket equation) and its delta-v, m/s."""
+    r0 = _vector3("r_ignition_km", burn.r_ignition_km)
+    v0 = _vector3("v_ignition_km_s", burn.v_ignition_km_s)
+    dv = _vector3("delta_v_inertial_m_s", burn.delta_v_inertial_m_s)
+    m0 = _scalar("mass_ignition_kg", burn.mass_ignition_kg)
+    thrust = _scalar("thrust_n", burn.thrust_n)
+    isp = _scalar("isp_s", burn.isp_s)
     dv_m_s = float(np.linalg.norm(dv))
     if dv_m_s == 0.0:
         raise ValueError("delta-v must be non-zero: a burn needs a thrust direction")
-    u = dv / dv_m_s
     duration = float(rocket.burn_duration_s(m0, dv_m_s, thrust, isp))
     if duration == 0.0:
         raise ValueError(f"delta-v {dv_m_s} m/s is too small to give a burn duration")
+    return _thrust_arc(r0, v0, m0, dv / dv_m_s, thrust, isp, duration), dv
 
-    r_f, v_f, m_f = propagate_constant_thrust(r0, v0, m0, u, thrust, isp, duration, mu)
 
+def _compare(arc: _ThrustArc, dv: np.ndarray, end, mu: float) -> FiniteBurnResult:
+    """The finite arc's end against the mid-point impulsive model (see simulate_finite_burn)."""
+    r0, v0, duration = arc.r0_km, arc.v0_km_s, arc.duration_s
+    dv_m_s = float(np.linalg.norm(dv))
+    u = dv / dv_m_s
+    r_f, v_f, m_f = end
     half = duration / 2.0
     r_c, v_c = propagate(r0, v0, half, mu)
     r_c, v_c = np.asarray(r_c, dtype=float), np.asarray(v_c, dtype=float)

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 import functools
 from collections.abc import Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Literal
 
 import numpy as np
@@ -32,7 +32,7 @@ from service.dynamics.elements import (
     state_to_elements,
 )
 from service.dynamics.epochs import add_seconds, seconds_between
-from service.dynamics.finite_burn import FiniteBurnResult, simulate_finite_burn
+from service.dynamics.finite_burn import FiniteBurn, FiniteBurnResult, simulate_finite_burns
 from service.dynamics.frames import local_to_inertial
 from service.dynamics.kepler import propagate
 from service.dynamics.secular import propagate_j2_secular
@@ -443,6 +443,7 @@ def build_trajectory(
     v_km_s = np.array(v0_km_s, dtype=float)
     arc_start, after, mass_kg = epoch, None, float(initial_mass_kg)
     results: list[BurnResult] = []
+    to_fly: dict[int, FiniteBurn] = {}  # index in results -> the burn to fly with finite thrust
     arcs: list[Arc] = []
     elements_of = _ElementsOnce(body.mu_km3_s2)
     for burn in ordered:
@@ -487,18 +488,12 @@ def build_trajectory(
         burn_arc += swept_angle_rad(
             r_c, v_after, after_centre_s, mu, elements=elements_of(r_c, v_after)
         )
-        finite, skipped = None, None
+        skipped = None
         if finite_burns and dv_m_s > 0.0:
             skipped = _finite_burn_out_of_reach(duration, burn_arc)
-            if skipped is None:
-                finite = simulate_finite_burn(
-                    r_ign,
-                    v_ign,
-                    mass_kg,
-                    dv_inertial,
-                    engine.thrust_n,
-                    engine.isp_s,
-                    body.mu_km3_s2,
+            if skipped is None:  # flown after the loop, all such burns together
+                to_fly[len(results)] = FiniteBurn(
+                    r_ign, v_ign, mass_kg, dv_inertial, engine.thrust_n, engine.isp_s
                 )
         results.append(
             BurnResult(
@@ -520,7 +515,7 @@ def build_trajectory(
                 burn_arc_rad=burn_arc,
                 v_before_km_s=v_before,
                 v_after_km_s=v_after,
-                finite_burn=finite,
+                finite_burn=None,
                 finite_burn_skipped=skipped,
             )
         )
@@ -529,6 +524,9 @@ def build_trajectory(
     arcs.append(
         _arc(len(arcs), after, arc_start, None, r_km, v_km_s, None, body, elements_of(r_km, v_km_s))
     )
+    flown = simulate_finite_burns(list(to_fly.values()), body.mu_km3_s2)
+    for index, finite in zip(to_fly, flown, strict=True):
+        results[index] = replace(results[index], finite_burn=finite)
     return Trajectory(
         body=body,
         epoch=epoch,
