@@ -1,6 +1,7 @@
 """The compute budget: checked around the trajectory build, capping the checks, in both faces."""
 
 import json
+import re
 
 import pytest
 
@@ -81,9 +82,11 @@ def test_what_is_left_caps_the_checks_and_an_overrun_is_an_error_finding(plan):
     statuses = {f["check"]: (f["status"], f["message"]) for f in report["findings"]}
     assert report["verdict"] == "fail"
     assert statuses["a-hangs"][0] == "error"
-    assert statuses["a-hangs"][1] == (
-        "check did not finish within its 0.3 s time budget "
-        "(what was left of the request's 1 s compute budget)"
+    # 0.3 s less the real time the runner took to start the check (0.299 s on a slow machine)
+    assert re.fullmatch(
+        r"check did not finish within its 0\.(3|29\d) s time budget "
+        r"\(what was left of the request's 1 s compute budget\)",
+        statuses["a-hangs"][1],
     )
     assert statuses["b-good"] == (
         "error",

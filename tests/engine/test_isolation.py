@@ -1,5 +1,7 @@
 """Plugin isolation: time budgets per check and per request, allow and deny lists."""
 
+import dataclasses
+
 import pytest
 
 from service.engine.registry import PluginPolicy
@@ -51,8 +53,8 @@ def test_checks_left_without_request_time_are_errors_not_silence(plan):
 def test_the_profile_budget_reaches_the_runner_through_validate(plan):
     engine = _engine(_Fixed("hangs-forever", hangs), _Fixed("good-one", _ok))
     profile = engine.profiles["default"]
-    engine.profiles["default"] = type(profile)(
-        **{**profile.__dict__, "check_time_budget_s": 0.2, "request_time_budget_s": 5.0}
+    engine.profiles["default"] = dataclasses.replace(
+        profile, check_time_budget_s=0.2, request_time_budget_s=5.0
     )
     report = engine.validate(plan)
     assert report["verdict"] == "fail"

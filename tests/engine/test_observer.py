@@ -1,5 +1,6 @@
 """The check observer: one CheckRun per check with the right outcome, and the same report."""
 
+import dataclasses
 import threading
 
 import pytest
@@ -36,12 +37,8 @@ def _release_hung_checks():
 
 def _with_budgets(engine, check_budget_s, request_budget_s=30.0):
     profile = engine.profiles["default"]
-    engine.profiles["default"] = type(profile)(
-        **{
-            **profile.__dict__,
-            "check_time_budget_s": check_budget_s,
-            "request_time_budget_s": request_budget_s,
-        }
+    engine.profiles["default"] = dataclasses.replace(
+        profile, check_time_budget_s=check_budget_s, request_time_budget_s=request_budget_s
     )
     return engine
 

@@ -3,6 +3,7 @@ multiprocess mode that sums gunicorn workers."""
 
 from __future__ import annotations
 
+import dataclasses
 import json
 import os
 import subprocess
@@ -153,8 +154,8 @@ def test_a_check_that_raises_is_counted_as_an_error():
 def test_a_check_that_overruns_is_counted_as_a_timeout():
     engine = _engine(_Fixed("a-hangs", hangs), _Fixed("b-good", _ok))
     profile = engine.profiles["default"]
-    engine.profiles["default"] = type(profile)(
-        **{**profile.__dict__, "check_time_budget_s": 0.2, "request_time_budget_s": 0.2}
+    engine.profiles["default"] = dataclasses.replace(
+        profile, check_time_budget_s=0.2, request_time_budget_s=0.2
     )
     client = _app(engine).test_client()
     assert _post(client, plan_with(12.5)).get_json()["verdict"] == "fail"
@@ -164,7 +165,9 @@ def test_a_check_that_overruns_is_counted_as_a_timeout():
     # b-good never started: the request's budget had run out; counted as a time-out too.
     assert _value(samples, errors, check="b-good", kind="timeout") == 1
     assert _value(samples, "burnproof_check_duration_seconds_count", check="a-hangs") == 1
-    assert _value(samples, "burnproof_check_duration_seconds_sum", check="a-hangs") >= 0.2
+    # the time waited before giving up: about the 0.2 s budget (what was left of it when the
+    # check started, so a little under on a slow machine); only its presence is the point
+    assert _value(samples, "burnproof_check_duration_seconds_sum", check="a-hangs") >= 0.15
     assert _value(samples, "burnproof_check_duration_seconds_count", check="b-good") == 0
 
 
