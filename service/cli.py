@@ -180,7 +180,8 @@ def cmd_validate(args: argparse.Namespace, engine_source: Any) -> int:
     if args.output not in (None, "-"):
         summary = report.get("summary", {})
         counts = ", ".join(f"{summary.get(key, 0)} {key}" for key in summary)
-        _say(f"{report.get('plan_id')}: {verdict} ({counts}); report written to {args.output}")
+        written = "the plan as an OPM" if args.format == "opm" else "report"
+        _say(f"{report.get('plan_id')}: {verdict} ({counts}); {written} written to {args.output}")
     # Fail-closed: anything but an explicit pass or warn is a failure.
     return EXIT_OK if verdict in ("pass", "warn") else EXIT_FAIL
 

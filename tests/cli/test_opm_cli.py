@@ -38,7 +38,7 @@ def test_format_opm_writes_the_validated_plan(tmp_path, capsys) -> None:
     assert main(["validate", plan, "--format", "opm", "--output", str(out)]) == 0
     message = parse_opm(out.read_text())
     assert dict(message.user_defined)["BURNPROOF_PLAN_ID"] == "kestrel-2-raise-01"
-    assert "report written to" in capsys.readouterr().err
+    assert "the plan as an OPM written to" in capsys.readouterr().err
     assert main(["validate", OPM, "--spacecraft", DESCRIPTION, "--format", "opm"]) == 0
     assert len(parse_opm(capsys.readouterr().out).maneuvers) == 2
 
