@@ -62,7 +62,7 @@ def test_curtis_example_6_1_propellant():
     # Curtis, Orbital Mechanics for Engineering Students, Example 6.1 (2nd ed. p. 290): a
     # 2000 kg spacecraft, Hohmann-type transfer from a 480 x 800 km orbit to a 16 000 km
     # circular orbit, Isp 300 s. Problem statement checked against several public
-    # transcriptions; the published total delta-v 3.0522 km/s and propellant 1291 kg are
+    # copies of the example; the published total delta-v 3.0522 km/s and propellant 1291 kg are
     # from memory and match a recomputation with the book's mu 398600, R 6378 km,
     # g0 9.807 m/s^2. With g0 = 9.80665 exactly the propellant moves by under 0.1 kg.
     mu, radius = 398600.0, 6378.0
