@@ -187,6 +187,14 @@ def _negotiated(responses: dict) -> dict:
     return responses
 
 
+def _validation_responses(**descriptions: str) -> dict:
+    """The answers of both validation operations: the report or the OPM (by Accept) and the
+    problems they can give; ``descriptions`` overrides a problem's wording (``s422=...``)."""
+    statuses = (400, 401, 406, 409, 413, 415, 422, 503)
+    validated = _validated("the report, or the validated plan as an OPM")
+    return _negotiated(_responses(validated, *statuses, **descriptions))
+
+
 def paths() -> dict[str, dict]:
     """Path -> OpenAPI path item, for every route of ``service.http``."""
     opm_validation = {
@@ -202,22 +210,11 @@ def paths() -> dict[str, dict]:
                 }
             },
         },
-        "responses": _negotiated(
-            _responses(
-                _validated("the report, or the validated plan as an OPM"),
-                400,
-                401,
-                406,
-                409,
-                413,
-                415,
-                422,
-                503,
-                s422="the envelope, the OPM or the description is unusable, or the plan they make "
-                "breaks the plan rules: errors maps opm.line.<n>.<KEYWORD> (the message's line "
-                "and keyword) or the description's dotted field path (spacecraft.engines.0.isp_s, "
-                "maneuvers.2.engine) or the envelope's field (opm, spacecraft) to messages",
-            )
+        "responses": _validation_responses(
+            s422="the envelope, the OPM or the description is unusable, or the plan they make "
+            "breaks the plan rules: errors maps opm.line.<n>.<KEYWORD> (the message's line "
+            "and keyword) or the description's dotted field path (spacecraft.engines.0.isp_s, "
+            "maneuvers.2.engine) or the envelope's field (opm, spacecraft) to messages",
         ),
         **_PROTECTED,
     }
@@ -234,19 +231,7 @@ def paths() -> dict[str, dict]:
                 }
             },
         },
-        "responses": _negotiated(
-            _responses(
-                _validated("the report, or the validated plan as an OPM"),
-                400,
-                401,
-                406,
-                409,
-                413,
-                415,
-                422,
-                503,
-            )
-        ),
+        "responses": _validation_responses(),
         **_PROTECTED,
     }
     ready = _responses(_ok("ready", READY))
